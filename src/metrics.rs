@@ -1,0 +1,1 @@
+//! Pure functions turning measured errors into figures.

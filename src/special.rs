@@ -1,0 +1,1 @@
+//! Special functions the reference problems need.
