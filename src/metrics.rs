@@ -1,1 +1,452 @@
-//! Pure functions turning measured errors into figures.
+//! Pure functions that turn measured errors into figures: digits, the order
+//! fit over the asymptotic part of a ladder, the roundoff floor and plateaus,
+//! the drift exponent of an invariant, and small helpers. Nothing here does IO
+//! or runs a stepper.
+
+/// Largest number of digits a measurement can report. An error of exactly
+/// zero reads as this clamp (double precision cannot resolve more than about
+/// 16 digits, so 17 means "no error seen at all").
+pub const MAX_DIGITS: f64 = 17.0;
+
+/// Rungs whose relative error exceeds 10 percent (fewer than 1 digit) are
+/// pre-asymptotic and excluded from order fits (DESIGN.md, "Measurement").
+pub const PRE_ASYMPTOTIC_DIGITS: f64 = 1.0;
+
+/// A rung "stops improving" when its digits grow by less than this many per
+/// decade of steps (a local order below 0.5). Common practice, no source: any
+/// method worth measuring has order 1 or more.
+pub const STALL_SLOPE: f64 = 0.5;
+
+/// A stalled rung counts as the roundoff floor when its error is at most this
+/// factor times `f64::EPSILON * steps` (linear accumulation of rounding, the
+/// pessimistic bound; random-walk rounding gives its square root). Common
+/// practice, no source: the factor leaves two decades for the conditioning
+/// of the problem.
+pub const FLOOR_FACTOR: f64 = 100.0;
+
+/// Rungs within this many digits of the floor are partly rounding and are
+/// left out of the order fit. Common practice, no source.
+pub const FLOOR_BAND: f64 = 1.0;
+
+/// The fit trims end points while its RMS residual (in digits) exceeds this.
+pub const FIT_RESIDUAL_GOAL: f64 = 0.02;
+
+/// Digits of a relative error: `-log10(err)`, clamped to `[0, MAX_DIGITS]`.
+/// An exact zero reads as [`MAX_DIGITS`]; a NaN or infinite error reads as 0.
+///
+/// ```
+/// use drift::metrics::{digits, MAX_DIGITS};
+/// assert!((digits(1e-6) - 6.0).abs() < 1e-12);
+/// assert_eq!(digits(0.0), MAX_DIGITS);
+/// assert_eq!(digits(5.0), 0.0);
+/// assert_eq!(digits(f64::NAN), 0.0);
+/// ```
+pub fn digits(err: f64) -> f64 {
+    if err.is_nan() || err.is_infinite() {
+        return 0.0;
+    }
+    let err = err.abs();
+    if err == 0.0 {
+        return MAX_DIGITS;
+    }
+    (-err.log10()).clamp(0.0, MAX_DIGITS)
+}
+
+/// The digits of the roundoff bound for a run of `steps` steps, the level at
+/// or above which a stalled rung is taken for the floor:
+/// `digits(FLOOR_FACTOR * EPSILON * steps)`.
+///
+/// ```
+/// let d = drift::metrics::rounding_digits(1_000_000);
+/// assert!((d - 7.65).abs() < 0.01);
+/// ```
+pub fn rounding_digits(steps: u64) -> f64 {
+    digits(FLOOR_FACTOR * f64::EPSILON * steps.max(1) as f64)
+}
+
+/// Least-squares straight line through `(x, y)`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Line {
+    /// Slope dy/dx.
+    pub slope: f64,
+    /// Value at x = 0.
+    pub intercept: f64,
+    /// Root-mean-square residual.
+    pub residual: f64,
+}
+
+/// Fits a least-squares line; `None` with fewer than two points or when all
+/// `x` coincide.
+///
+/// ```
+/// let l = drift::metrics::fit_line(&[0.0, 1.0, 2.0], &[1.0, 3.0, 5.0]).unwrap();
+/// assert!((l.slope - 2.0).abs() < 1e-12 && l.residual < 1e-12);
+/// ```
+pub fn fit_line(x: &[f64], y: &[f64]) -> Option<Line> {
+    let n = x.len().min(y.len());
+    if n < 2 {
+        return None;
+    }
+    let nf = n as f64;
+    let mx = x[..n].iter().sum::<f64>() / nf;
+    let my = y[..n].iter().sum::<f64>() / nf;
+    let sxx: f64 = x[..n].iter().map(|a| (a - mx) * (a - mx)).sum();
+    if sxx <= 0.0 || !sxx.is_finite() {
+        return None;
+    }
+    let sxy: f64 = x[..n].iter().zip(&y[..n]).map(|(a, b)| (a - mx) * (b - my)).sum();
+    let slope = sxy / sxx;
+    let intercept = my - slope * mx;
+    let ss: f64 = x[..n]
+        .iter()
+        .zip(&y[..n])
+        .map(|(a, b)| (b - intercept - slope * a).powi(2))
+        .sum();
+    Some(Line { slope, intercept, residual: (ss / nf).sqrt() })
+}
+
+/// How one rung of a ladder was read.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum RungClass {
+    /// Error above 10 percent, or the coarse end trimmed from the fit.
+    PreAsymptotic,
+    /// Used in the order fit.
+    Fitted,
+    /// Within [`FLOOR_BAND`] of the floor, or trimmed from the fine end.
+    NearFloor,
+    /// Stopped improving at a level rounding explains.
+    Floor,
+    /// Stopped improving far above what rounding explains: a consistency
+    /// error. Counts as order 0 and stays in the fit.
+    Plateau,
+    /// No figure at this rung (for example the finest rung of a
+    /// self-convergence study).
+    Missing,
+}
+
+/// The order fit of a series of rungs.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct OrderFit {
+    /// Slope of digits against log10(steps): the order of convergence.
+    pub order: f64,
+    /// RMS residual of the fit, in digits.
+    pub residual: f64,
+    /// Index of the first rung used.
+    pub first: usize,
+    /// Index of the last rung used.
+    pub last: usize,
+}
+
+/// The best accuracy a series reached.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Best {
+    /// Most digits reached.
+    pub digits: f64,
+    /// At which rung.
+    pub rung: usize,
+}
+
+/// Everything read off one series of digits over a ladder.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SeriesAnalysis {
+    /// One class per rung.
+    pub classes: Vec<RungClass>,
+    /// The order fit, when at least two rungs qualify.
+    pub fit: Option<OrderFit>,
+    /// The best digits reached anywhere on the ladder.
+    pub best: Option<Best>,
+    /// First rung of the roundoff floor, if the ladder reached it.
+    pub floor_from: Option<usize>,
+    /// First rung of a plateau far above rounding (a consistency error).
+    pub plateau_from: Option<usize>,
+}
+
+/// Reads a series of digits over a ladder (DESIGN.md, "Measurement").
+///
+/// `x[k]` is log10 of the resolution of rung k (steps per time unit, or
+/// right-hand-side evaluations), `d[k]` its digits (`None` where unknown) and
+/// `steps[k]` the total steps of its run, which sets the roundoff bound.
+///
+/// Rules: leading rungs below [`PRE_ASYMPTOTIC_DIGITS`] are pre-asymptotic. A
+/// rung whose local slope falls below [`STALL_SLOPE`] has stopped improving;
+/// it is the floor when its digits reach [`rounding_digits`] of its run
+/// (error explained by rounding), and a plateau otherwise. From the floor on
+/// every rung is floor, and rungs within [`FLOOR_BAND`] digits of the floor
+/// level are left out too. A plateau stays in the fit, so a consistency
+/// error pulls the order towards 0. The fit then trims its end points (the
+/// coarse end first) while its residual exceeds [`FIT_RESIDUAL_GOAL`] and
+/// more than three rungs remain; a plateau is never trimmed.
+///
+/// ```
+/// use drift::metrics::{analyse_series, RungClass};
+/// // A fourth-order method: 1.2 more digits per doubling, floor at 13.
+/// let x: Vec<f64> = (0..10).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
+/// let d: Vec<Option<f64>> = (0..10).map(|k| Some((2.0 + 1.204 * k as f64).min(12.0))).collect();
+/// let steps: Vec<u64> = (0..10).map(|k| 1600 << k).collect();
+/// let a = analyse_series(&x, &d, &steps);
+/// assert!((a.fit.unwrap().order - 4.0).abs() < 0.01);
+/// assert_eq!(a.classes[9], RungClass::Floor);
+/// assert!(a.plateau_from.is_none());
+/// ```
+pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnalysis {
+    let n = x.len().min(d.len()).min(steps.len());
+    let mut classes = vec![RungClass::Missing; n];
+    let known: Vec<usize> = (0..n).filter(|&k| d[k].is_some_and(f64::is_finite)).collect();
+    let best = known
+        .iter()
+        .map(|&k| Best { digits: d[k].unwrap_or(0.0), rung: k })
+        .fold(None, |acc: Option<Best>, b| match acc {
+            Some(a) if a.digits >= b.digits => Some(a),
+            _ => Some(b),
+        });
+
+    let mut floor_from = None;
+    let mut plateau_from = None;
+    let mut started = false;
+    let mut prev: Option<usize> = None;
+    for &k in &known {
+        let dk = d[k].unwrap_or(0.0);
+        if floor_from.is_some() {
+            classes[k] = RungClass::Floor;
+            continue;
+        }
+        if !started && dk < PRE_ASYMPTOTIC_DIGITS {
+            classes[k] = RungClass::PreAsymptotic;
+            prev = Some(k);
+            continue;
+        }
+        started = true;
+        let stalled = prev.is_some_and(|j| {
+            let dx = x[k] - x[j];
+            dx > 0.0 && (dk - d[j].unwrap_or(0.0)) / dx < STALL_SLOPE
+        });
+        classes[k] = if !stalled {
+            if plateau_from.is_some() {
+                RungClass::Plateau
+            } else {
+                RungClass::Fitted
+            }
+        } else if dk >= rounding_digits(steps[k]) {
+            floor_from = Some(k);
+            RungClass::Floor
+        } else {
+            plateau_from.get_or_insert(k);
+            RungClass::Plateau
+        };
+        prev = Some(k);
+    }
+
+    if let Some(f) = floor_from {
+        let level = known.iter().filter(|&&k| k >= f).map(|&k| d[k].unwrap_or(0.0)).fold(f64::MIN, f64::max);
+        for &k in &known {
+            if classes[k] == RungClass::Fitted && d[k].unwrap_or(0.0) > level - FLOOR_BAND {
+                classes[k] = RungClass::NearFloor;
+            }
+        }
+    }
+
+    let mut used: Vec<usize> = known
+        .iter()
+        .copied()
+        .filter(|&k| matches!(classes[k], RungClass::Fitted | RungClass::Plateau))
+        .collect();
+    let line_of = |idx: &[usize]| {
+        let xs: Vec<f64> = idx.iter().map(|&k| x[k]).collect();
+        let ys: Vec<f64> = idx.iter().map(|&k| d[k].unwrap_or(0.0)).collect();
+        fit_line(&xs, &ys)
+    };
+    let mut line = line_of(&used);
+    while let Some(l) = line {
+        if l.residual <= FIT_RESIDUAL_GOAL || used.len() <= 3 {
+            break;
+        }
+        // Trim the end point with the larger residual, never a plateau rung.
+        let res = |k: usize| (d[k].unwrap_or(0.0) - l.intercept - l.slope * x[k]).abs();
+        let (first, last) = (used[0], used[used.len() - 1]);
+        let trim_last = classes[last] != RungClass::Plateau && res(last) > res(first);
+        if trim_last {
+            classes[last] = RungClass::NearFloor;
+            used.pop();
+        } else if classes[first] != RungClass::Plateau {
+            classes[first] = RungClass::PreAsymptotic;
+            used.remove(0);
+        } else {
+            break;
+        }
+        line = line_of(&used);
+    }
+    let fit = line.map(|l| OrderFit {
+        order: l.slope,
+        residual: l.residual,
+        first: used[0],
+        last: used[used.len() - 1],
+    });
+    SeriesAnalysis { classes, fit, best, floor_from, plateau_from }
+}
+
+/// How the error of a conserved quantity grows over a long run.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum DriftClass {
+    /// Stays bounded (exponent below 0.25): symplectic methods, or exact.
+    Bounded,
+    /// Grows like sqrt(t) (exponent 0.25 to 0.75): unbiased rounding
+    /// (Brouwer, Astron. J. 46 (1937) 149).
+    RandomWalk,
+    /// Grows like t (exponent 0.75 to 1.3): non-symplectic fixed-step methods.
+    Linear,
+    /// Grows faster than linearly.
+    Growing,
+}
+
+impl DriftClass {
+    /// The class of a drift exponent (thresholds: common practice, no source,
+    /// placed between the ideal exponents 0, 1/2 and 1).
+    ///
+    /// ```
+    /// use drift::metrics::DriftClass;
+    /// assert_eq!(DriftClass::of_exponent(0.02), DriftClass::Bounded);
+    /// assert_eq!(DriftClass::of_exponent(0.5), DriftClass::RandomWalk);
+    /// assert_eq!(DriftClass::of_exponent(1.0), DriftClass::Linear);
+    /// assert_eq!(DriftClass::of_exponent(2.0), DriftClass::Growing);
+    /// ```
+    pub fn of_exponent(e: f64) -> DriftClass {
+        if e < 0.25 {
+            DriftClass::Bounded
+        } else if e < 0.75 {
+            DriftClass::RandomWalk
+        } else if e < 1.3 {
+            DriftClass::Linear
+        } else {
+            DriftClass::Growing
+        }
+    }
+
+    /// A short lower-case name (`bounded`, `random-walk`, `linear`, `growing`).
+    ///
+    /// ```
+    /// assert_eq!(drift::metrics::DriftClass::RandomWalk.name(), "random-walk");
+    /// ```
+    pub fn name(self) -> &'static str {
+        match self {
+            DriftClass::Bounded => "bounded",
+            DriftClass::RandomWalk => "random-walk",
+            DriftClass::Linear => "linear",
+            DriftClass::Growing => "growing",
+        }
+    }
+}
+
+/// The growth law fitted to an invariant's error over a long run.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct DriftFit {
+    /// Exponent a of err ~ t^a, fitted to the running maximum of the error.
+    pub exponent: f64,
+    /// Its class.
+    pub class: DriftClass,
+    /// Largest relative error seen over the run.
+    pub max_error: f64,
+}
+
+/// Fits the drift exponent of an invariant's relative error `err[i]` at
+/// times `t[i]` (elapsed since the start, all positive and increasing).
+///
+/// The running maximum of the error is fitted in log-log over the last two
+/// decades of time (t from t_end/100 on), so an oscillating bounded error
+/// reads as exponent 0. Returns `None` with fewer than two usable samples.
+/// An error that is exactly zero throughout reads as bounded.
+///
+/// ```
+/// use drift::metrics::{drift_fit, DriftClass};
+/// let t: Vec<f64> = (1..=1000).map(|i| i as f64).collect();
+/// let lin: Vec<f64> = t.iter().map(|t| 1e-9 * t).collect();
+/// assert_eq!(drift_fit(&t, &lin).unwrap().class, DriftClass::Linear);
+/// let osc: Vec<f64> = t.iter().map(|t| 1e-6 * (t * 0.7).sin().abs()).collect();
+/// assert_eq!(drift_fit(&t, &osc).unwrap().class, DriftClass::Bounded);
+/// ```
+pub fn drift_fit(t: &[f64], err: &[f64]) -> Option<DriftFit> {
+    let n = t.len().min(err.len());
+    let t_end = *t[..n].last()?;
+    let mut running = 0.0f64;
+    let (mut xs, mut ys) = (Vec::new(), Vec::new());
+    for i in 0..n {
+        running = running.max(err[i].abs());
+        if t[i] > 0.0 && t[i] >= t_end / 100.0 && running > 0.0 {
+            xs.push(t[i].log10());
+            ys.push(running.log10());
+        }
+    }
+    if running == 0.0 {
+        return Some(DriftFit { exponent: 0.0, class: DriftClass::Bounded, max_error: 0.0 });
+    }
+    let line = fit_line(&xs, &ys)?;
+    Some(DriftFit { exponent: line.slope, class: DriftClass::of_exponent(line.slope), max_error: running })
+}
+
+/// Relative residual of the virial theorem from time averages of `2T` and
+/// `pV`: `|<2T> - <pV>| / max(|<2T>|, |<pV>|)`, or `None` if both vanish.
+///
+/// ```
+/// let r = drift::metrics::virial_residual(1.0, 1.0 + 1e-9).unwrap();
+/// assert!((r - 1e-9).abs() < 1e-15);
+/// ```
+pub fn virial_residual(mean_2t: f64, mean_pv: f64) -> Option<f64> {
+    let scale = mean_2t.abs().max(mean_pv.abs());
+    (scale > 0.0 && scale.is_finite()).then(|| (mean_2t - mean_pv).abs() / scale)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn ladder(n: usize) -> (Vec<f64>, Vec<u64>) {
+        let x = (0..n).map(|k| (16.0 * 2f64.powi(k as i32)).log10()).collect();
+        let s = (0..n).map(|k| 1600u64 << k).collect();
+        (x, s)
+    }
+
+    #[test]
+    fn plateau_far_above_rounding_is_not_floor() {
+        // Order 4 until 5 digits, then stuck: a consistency error.
+        let (x, s) = ladder(10);
+        let d: Vec<Option<f64>> = (0..10).map(|k| Some((1.5 + 1.204 * k as f64).min(5.0))).collect();
+        let a = analyse_series(&x, &d, &s);
+        assert!(a.floor_from.is_none());
+        assert_eq!(a.plateau_from, Some(4));
+        assert!(a.fit.unwrap().order < 2.0, "{:?}", a.fit);
+    }
+
+    #[test]
+    fn pre_asymptotic_rungs_are_excluded() {
+        let (x, s) = ladder(8);
+        // Second order with a large coarse-end curvature.
+        let d: Vec<Option<f64>> = (0..8).map(|k| Some(0.3 * k as f64 + 0.602 * k as f64 - 0.5)).collect();
+        let a = analyse_series(&x, &d, &s);
+        assert_eq!(a.classes[0], RungClass::PreAsymptotic);
+        assert!(a.fit.unwrap().first >= 1);
+    }
+
+    #[test]
+    fn missing_rungs_are_skipped() {
+        let (x, s) = ladder(6);
+        let mut d: Vec<Option<f64>> = (0..6).map(|k| Some(2.0 + 4f64.log10() * k as f64)).collect();
+        d[5] = None;
+        let a = analyse_series(&x, &d, &s);
+        assert_eq!(a.classes[5], RungClass::Missing);
+        assert!((a.fit.unwrap().order - 2.0).abs() < 1e-9, "{a:?}");
+    }
+
+    #[test]
+    fn too_few_points_give_no_fit() {
+        let a = analyse_series(&[1.0], &[Some(3.0)], &[10]);
+        assert!(a.fit.is_none());
+        assert_eq!(a.best.unwrap().digits, 3.0);
+    }
+
+    #[test]
+    fn random_walk_drift() {
+        // Deterministic sqrt(t) envelope.
+        let t: Vec<f64> = (1..=2000).map(|i| i as f64).collect();
+        let e: Vec<f64> = t.iter().map(|t| 1e-15 * t.sqrt()).collect();
+        assert_eq!(drift_fit(&t, &e).unwrap().class, DriftClass::RandomWalk);
+    }
+}
