@@ -180,12 +180,13 @@ pub struct SeriesAnalysis {
 /// ```
 /// use drift::metrics::{analyse_series, RungClass};
 /// // A fourth-order method: 1.2 more digits per doubling, floor at 13.
-/// let x: Vec<f64> = (0..10).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
-/// let d: Vec<Option<f64>> = (0..10).map(|k| Some((2.0 + 1.204 * k as f64).min(12.0))).collect();
-/// let steps: Vec<u64> = (0..10).map(|k| 1600 << k).collect();
+/// let x: Vec<f64> = (0..11).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
+/// let d: Vec<Option<f64>> = (0..11).map(|k| Some((2.0 + 1.204 * k as f64).min(12.0))).collect();
+/// let steps: Vec<u64> = (0..11).map(|k| 1600 << k).collect();
 /// let a = analyse_series(&x, &d, &steps);
 /// assert!((a.fit.unwrap().order - 4.0).abs() < 0.01);
-/// assert_eq!(a.classes[9], RungClass::Floor);
+/// assert_eq!(a.classes[10], RungClass::Floor);
+/// assert_eq!(a.classes[9], RungClass::NearFloor);
 /// assert!(a.plateau_from.is_none());
 /// ```
 pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnalysis {
