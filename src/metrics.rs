@@ -94,7 +94,11 @@ pub fn fit_line(x: &[f64], y: &[f64]) -> Option<Line> {
     if sxx <= 0.0 || !sxx.is_finite() {
         return None;
     }
-    let sxy: f64 = x[..n].iter().zip(&y[..n]).map(|(a, b)| (a - mx) * (b - my)).sum();
+    let sxy: f64 = x[..n]
+        .iter()
+        .zip(&y[..n])
+        .map(|(a, b)| (a - mx) * (b - my))
+        .sum();
     let slope = sxy / sxx;
     let intercept = my - slope * mx;
     let ss: f64 = x[..n]
@@ -102,7 +106,11 @@ pub fn fit_line(x: &[f64], y: &[f64]) -> Option<Line> {
         .zip(&y[..n])
         .map(|(a, b)| (b - intercept - slope * a).powi(2))
         .sum();
-    Some(Line { slope, intercept, residual: (ss / nf).sqrt() })
+    Some(Line {
+        slope,
+        intercept,
+        residual: (ss / nf).sqrt(),
+    })
 }
 
 /// How one rung of a ladder was read.
@@ -192,10 +200,15 @@ pub struct SeriesAnalysis {
 pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnalysis {
     let n = x.len().min(d.len()).min(steps.len());
     let mut classes = vec![RungClass::Missing; n];
-    let known: Vec<usize> = (0..n).filter(|&k| d[k].is_some_and(f64::is_finite)).collect();
+    let known: Vec<usize> = (0..n)
+        .filter(|&k| d[k].is_some_and(f64::is_finite))
+        .collect();
     let best = known
         .iter()
-        .map(|&k| Best { digits: d[k].unwrap_or(0.0), rung: k })
+        .map(|&k| Best {
+            digits: d[k].unwrap_or(0.0),
+            rung: k,
+        })
         .fold(None, |acc: Option<Best>, b| match acc {
             Some(a) if a.digits >= b.digits => Some(a),
             _ => Some(b),
@@ -238,7 +251,11 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
     }
 
     if let Some(f) = floor_from {
-        let level = known.iter().filter(|&&k| k >= f).map(|&k| d[k].unwrap_or(0.0)).fold(f64::MIN, f64::max);
+        let level = known
+            .iter()
+            .filter(|&&k| k >= f)
+            .map(|&k| d[k].unwrap_or(0.0))
+            .fold(f64::MIN, f64::max);
         for &k in &known {
             if classes[k] == RungClass::Fitted && d[k].unwrap_or(0.0) > level - FLOOR_BAND {
                 classes[k] = RungClass::NearFloor;
@@ -282,7 +299,13 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
         first: used[0],
         last: used[used.len() - 1],
     });
-    SeriesAnalysis { classes, fit, best, floor_from, plateau_from }
+    SeriesAnalysis {
+        classes,
+        fit,
+        best,
+        floor_from,
+        plateau_from,
+    }
 }
 
 /// How the error of a conserved quantity grows over a long run.
@@ -377,10 +400,18 @@ pub fn drift_fit(t: &[f64], err: &[f64]) -> Option<DriftFit> {
         }
     }
     if running == 0.0 {
-        return Some(DriftFit { exponent: 0.0, class: DriftClass::Bounded, max_error: 0.0 });
+        return Some(DriftFit {
+            exponent: 0.0,
+            class: DriftClass::Bounded,
+            max_error: 0.0,
+        });
     }
     let line = fit_line(&xs, &ys)?;
-    Some(DriftFit { exponent: line.slope, class: DriftClass::of_exponent(line.slope), max_error: running })
+    Some(DriftFit {
+        exponent: line.slope,
+        class: DriftClass::of_exponent(line.slope),
+        max_error: running,
+    })
 }
 
 /// Relative residual of the virial theorem from time averages of `2T` and
@@ -400,7 +431,9 @@ mod tests {
     use super::*;
 
     fn ladder(n: usize) -> (Vec<f64>, Vec<u64>) {
-        let x = (0..n).map(|k| (16.0 * 2f64.powi(k as i32)).log10()).collect();
+        let x = (0..n)
+            .map(|k| (16.0 * 2f64.powi(k as i32)).log10())
+            .collect();
         let s = (0..n).map(|k| 1600u64 << k).collect();
         (x, s)
     }
@@ -409,7 +442,9 @@ mod tests {
     fn plateau_far_above_rounding_is_not_floor() {
         // Order 4 until 5 digits, then stuck: a consistency error.
         let (x, s) = ladder(10);
-        let d: Vec<Option<f64>> = (0..10).map(|k| Some((1.5 + 1.204 * k as f64).min(5.0))).collect();
+        let d: Vec<Option<f64>> = (0..10)
+            .map(|k| Some((1.5 + 1.204 * k as f64).min(5.0)))
+            .collect();
         let a = analyse_series(&x, &d, &s);
         assert!(a.floor_from.is_none());
         assert_eq!(a.plateau_from, Some(4));
@@ -420,7 +455,9 @@ mod tests {
     fn pre_asymptotic_rungs_are_excluded() {
         let (x, s) = ladder(8);
         // Second order with a large coarse-end curvature.
-        let d: Vec<Option<f64>> = (0..8).map(|k| Some(0.3 * k as f64 + 0.602 * k as f64 - 0.5)).collect();
+        let d: Vec<Option<f64>> = (0..8)
+            .map(|k| Some(0.3 * k as f64 + 0.602 * k as f64 - 0.5))
+            .collect();
         let a = analyse_series(&x, &d, &s);
         assert_eq!(a.classes[0], RungClass::PreAsymptotic);
         assert!(a.fit.unwrap().first >= 1);
@@ -429,7 +466,9 @@ mod tests {
     #[test]
     fn missing_rungs_are_skipped() {
         let (x, s) = ladder(6);
-        let mut d: Vec<Option<f64>> = (0..6).map(|k| Some(2.0 + 4f64.log10() * k as f64)).collect();
+        let mut d: Vec<Option<f64>> = (0..6)
+            .map(|k| Some(2.0 + 4f64.log10() * k as f64))
+            .collect();
         d[5] = None;
         let a = analyse_series(&x, &d, &s);
         assert_eq!(a.classes[5], RungClass::Missing);

@@ -1,1 +1,415 @@
-//! Running a check.
+//! Running a check: a user method on a problem over a ladder of resolutions,
+//! and what comes out of it ([`Measurement`]).
+//!
+//! The parts: [`method`] adapts the three user traits to one driving
+//! interface; [`ladder`] runs the rungs (fixed step counts or tolerances)
+//! and reads solution and invariant errors at the samples; [`long_run`]
+//! measures drift, period, virial residual and reversibility. The figures
+//! are computed by the pure functions of [`crate::metrics`].
+
+pub mod ladder;
+pub mod long_run;
+pub mod method;
+
+pub use ladder::{Basis, Resolution, Rung};
+pub use long_run::{LongRunReport, PeriodReport};
+pub use method::{Counted, Fixed, Method, MethodKind, Split, Whole};
+
+use crate::metrics::{DriftFit, SeriesAnalysis};
+use crate::problem::Problem;
+use crate::stepper::IntegrateError;
+
+/// Which resolutions a check runs at.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Ladder {
+    /// Exactly these steps per time unit (strictly increasing).
+    Steps(Vec<u64>),
+    /// Steps per time unit doubling from `start` until the solution reaches
+    /// 15 digits, the roundoff floor is reached, a plateau persists for two
+    /// rungs, `max_rungs` rungs have run, or the next rung would take the
+    /// total steps of the ladder over `budget`.
+    Auto {
+        /// Steps per time unit of the first rung.
+        start: u64,
+        /// Most rungs.
+        max_rungs: usize,
+        /// Most steps summed over all rungs.
+        budget: u64,
+    },
+    /// For integrators: adaptive runs at these tolerances (relative and
+    /// absolute alike), coarse to fine.
+    Tolerances(Vec<f64>),
+}
+
+impl Default for Ladder {
+    fn default() -> Self {
+        Ladder::Auto {
+            start: 16,
+            max_rungs: 14,
+            budget: 4_000_000,
+        }
+    }
+}
+
+impl Ladder {
+    /// The default tolerance ladder for integrators: 1e-3 down to 1e-12 by
+    /// decades.
+    ///
+    /// ```
+    /// let drift::measure::Ladder::Tolerances(t) = drift::measure::Ladder::default_tolerances() else { panic!() };
+    /// assert_eq!(t.len(), 10);
+    /// ```
+    pub fn default_tolerances() -> Ladder {
+        Ladder::Tolerances((3..=12).map(|k| 10f64.powi(-k)).collect())
+    }
+}
+
+/// The long run that measures drift, period and virial residual.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LongRun {
+    /// Length in time units.
+    pub periods: f64,
+    /// Steps per time unit; `None` takes the first rung of the ladder whose
+    /// solution has at least 3 digits (truncation error well above rounding,
+    /// so the drift of the method shows), else the finest rung.
+    pub steps_per_unit: Option<u64>,
+}
+
+impl Default for LongRun {
+    fn default() -> Self {
+        LongRun {
+            periods: 1000.0,
+            steps_per_unit: None,
+        }
+    }
+}
+
+/// What to measure, and how hard.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Config {
+    /// The resolutions.
+    pub ladder: Ladder,
+    /// Horizon of each rung, in time units of the problem.
+    pub periods: f64,
+    /// Samples per time unit at which errors are read (the steps per time
+    /// unit of every rung must be a multiple of it).
+    pub samples_per_unit: u64,
+    /// The long run, or `None` to skip drift, period and virial.
+    pub long_run: Option<LongRun>,
+    /// Whether to measure forward-then-backward reversibility.
+    pub reversibility: bool,
+}
+
+impl Default for Config {
+    fn default() -> Self {
+        Config {
+            ladder: Ladder::default(),
+            periods: 10.0,
+            samples_per_unit: 4,
+            long_run: Some(LongRun::default()),
+            reversibility: true,
+        }
+    }
+}
+
+/// The figures of one conserved quantity.
+#[derive(Clone, Debug, PartialEq)]
+pub struct InvariantReport {
+    /// Its name.
+    pub name: String,
+    /// Its digits over the ladder, read as a series (order, floor, plateau).
+    pub analysis: SeriesAnalysis,
+    /// Drift over the long run forward in time.
+    pub drift_forward: Option<DriftFit>,
+    /// Drift over the long run backward in time.
+    pub drift_backward: Option<DriftFit>,
+}
+
+/// Where a run produced a NaN or an infinity.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Divergence {
+    /// The rung (`None`: the long run or the reversibility run).
+    pub rung: Option<usize>,
+    /// Time of the first step whose result was not finite.
+    pub t: f64,
+}
+
+/// Everything measured of one method on one problem.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Measurement {
+    /// The problem's name.
+    pub problem: String,
+    /// The kind of method.
+    pub kind: MethodKind,
+    /// Whether the solution error is against the exact solution or by
+    /// self-convergence.
+    pub basis: Basis,
+    /// The rungs run, coarse to fine.
+    pub rungs: Vec<Rung>,
+    /// The solution digits over the ladder read as a series: order fit with
+    /// its range and residual, floor, plateau.
+    pub solution: SeriesAnalysis,
+    /// One report per invariant of the problem.
+    pub invariants: Vec<InvariantReport>,
+    /// The long run, when configured and supported.
+    pub long_run: Option<LongRunReport>,
+    /// Digits to which forward-then-backward stepping returns to the initial
+    /// state (at the long run's resolution over the ladder's horizon).
+    pub reversibility_digits: Option<f64>,
+    /// Right-hand-side evaluations per accepted step, on the finest rung.
+    pub evals_per_step: f64,
+    /// A NaN or infinity in the finest rung, the long run or the
+    /// reversibility run: the method diverged. (Divergence of coarse rungs
+    /// is recorded in the rung only.)
+    pub diverged: Option<Divergence>,
+}
+
+/// Why a measurement could not be made.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum MeasureError {
+    /// The method cannot run on this problem.
+    Incompatible(String),
+    /// The configuration is unusable (the message says which field and why).
+    Config(String),
+    /// The user's method panicked; the panic message.
+    Panicked(String),
+    /// The integrator refused or failed.
+    Integrator(IntegrateError),
+}
+
+impl std::fmt::Display for MeasureError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            MeasureError::Incompatible(m) => write!(f, "incompatible: {m}"),
+            MeasureError::Config(m) => write!(f, "configuration: {m}"),
+            MeasureError::Panicked(m) => write!(f, "the method panicked: {m}"),
+            MeasureError::Integrator(e) => write!(f, "{e}"),
+        }
+    }
+}
+
+impl std::error::Error for MeasureError {}
+
+/// Measures `method` on `problem` as `config` says. A panic inside the user's
+/// method is caught and returned as [`MeasureError::Panicked`]; a NaN or
+/// infinity is reported as a divergence at its time, never a panic.
+///
+/// ```
+/// use drift::measure::{measure, Config, Fixed, Ladder};
+/// use drift::{Problem, Rhs, Stepper};
+/// /// y' = i y as two real components, exact solution (cos t, sin t).
+/// struct Rotation;
+/// impl Rhs for Rotation {
+///     fn dim(&self) -> usize { 2 }
+///     fn rhs(&self, _t: f64, y: &[f64], d: &mut [f64]) { d[0] = -y[1]; d[1] = y[0]; }
+/// }
+/// impl Problem for Rotation {
+///     fn name(&self) -> &str { "rotation" }
+///     fn initial(&self, y0: &mut [f64]) { y0.copy_from_slice(&[1.0, 0.0]); }
+///     fn time_unit(&self) -> f64 { std::f64::consts::TAU }
+///     fn exact(&self, t: f64, y: &mut [f64]) -> bool { y[0] = t.cos(); y[1] = t.sin(); true }
+/// }
+/// /// Heun's method (Hairer-Norsett-Wanner I, II.1), order 2.
+/// #[derive(Default)]
+/// struct Heun { k1: Vec<f64>, k2: Vec<f64>, y1: Vec<f64> }
+/// impl Stepper for Heun {
+///     fn step<F: Rhs + ?Sized>(&mut self, f: &F, t: f64, y: &mut [f64], h: f64) {
+///         let n = y.len();
+///         self.k1.resize(n, 0.0); self.k2.resize(n, 0.0); self.y1.resize(n, 0.0);
+///         f.rhs(t, y, &mut self.k1);
+///         for i in 0..n { self.y1[i] = y[i] + h * self.k1[i]; }
+///         f.rhs(t + h, &self.y1, &mut self.k2);
+///         for i in 0..n { y[i] += 0.5 * h * (self.k1[i] + self.k2[i]); }
+///     }
+/// }
+/// let config = Config { ladder: Ladder::Steps(vec![64, 128, 256, 512]), long_run: None, ..Config::default() };
+/// let m = measure(&mut Fixed(Heun::default()), &Rotation, &config).unwrap();
+/// let fit = m.solution.fit.unwrap();
+/// assert!((fit.order - 2.0).abs() < 0.05, "order {}", fit.order);
+/// assert_eq!(m.evals_per_step, 2.0);
+/// ```
+pub fn measure<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    config: &Config,
+) -> Result<Measurement, MeasureError> {
+    let run = std::panic::AssertUnwindSafe(|| measure_inner(method, problem, config));
+    match std::panic::catch_unwind(run) {
+        Ok(result) => result,
+        Err(payload) => {
+            let msg = payload
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| payload.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "(no message)".to_string());
+            Err(MeasureError::Panicked(msg))
+        }
+    }
+}
+
+fn measure_inner<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    config: &Config,
+) -> Result<Measurement, MeasureError> {
+    validate(problem, config)?;
+    method
+        .compatible(problem)
+        .map_err(MeasureError::Incompatible)?;
+    let lad = ladder::run(method, problem, config)?;
+    let finest = lad
+        .rungs
+        .last()
+        .ok_or_else(|| MeasureError::Config("the ladder ran no rung".into()))?;
+    let evals_per_step = if finest.steps > 0 {
+        finest.evals as f64 / finest.steps as f64
+    } else {
+        0.0
+    };
+    let mut diverged = finest.diverged_at.map(|t| Divergence {
+        rung: Some(lad.rungs.len() - 1),
+        t,
+    });
+
+    let fixed_ladder = !matches!(config.ladder, Ladder::Tolerances(_));
+    let long_n = config.long_run.as_ref().map(|lr| {
+        lr.steps_per_unit.unwrap_or_else(|| {
+            lad.rungs
+                .iter()
+                .find(|r| r.solution_digits.is_some_and(|d| d >= 3.0))
+                .or(lad.rungs.last())
+                .and_then(|r| r.resolution.steps_per_unit())
+                .unwrap_or(config.samples_per_unit * 64)
+        })
+    });
+    let mut long = None;
+    let mut invariant_drift = vec![(None, None); problem.invariants().len()];
+    if let (Some(lr), Some(n), true) = (config.long_run.as_ref(), long_n, fixed_ladder) {
+        match long_run::run(method, problem, n, lr.periods, config.samples_per_unit) {
+            Ok(report) => {
+                if diverged.is_none() {
+                    diverged = report.diverged_at.map(|t| Divergence { rung: None, t });
+                }
+                for (k, slot) in invariant_drift.iter_mut().enumerate() {
+                    *slot = (
+                        report.drift_forward.get(k).copied().flatten(),
+                        report.drift_backward.get(k).copied().flatten(),
+                    );
+                }
+                long = Some(report);
+            }
+            Err(IntegrateError::Unsupported(_)) => {}
+            Err(e) => return Err(MeasureError::Integrator(e)),
+        }
+    }
+    let mut reversibility_digits = None;
+    if config.reversibility && fixed_ladder {
+        let n = long_n.unwrap_or_else(|| lad.rungs[0].resolution.steps_per_unit().unwrap_or(64));
+        match long_run::reversibility(method, problem, n, config.periods) {
+            Ok(Ok(d)) => reversibility_digits = Some(d),
+            Ok(Err(t)) => {
+                diverged.get_or_insert(Divergence { rung: None, t });
+            }
+            Err(IntegrateError::Unsupported(_)) => {}
+            Err(e) => return Err(MeasureError::Integrator(e)),
+        }
+    }
+
+    let invariants = problem
+        .invariants()
+        .iter()
+        .zip(lad.invariant_analyses)
+        .zip(invariant_drift)
+        .map(|((inv, analysis), (fwd, bwd))| InvariantReport {
+            name: inv.name.to_string(),
+            analysis,
+            drift_forward: fwd,
+            drift_backward: bwd,
+        })
+        .collect();
+    Ok(Measurement {
+        problem: problem.name().to_string(),
+        kind: method.kind(),
+        basis: lad.basis,
+        solution: lad.solution,
+        rungs: lad.rungs,
+        invariants,
+        long_run: long,
+        reversibility_digits,
+        evals_per_step,
+        diverged,
+    })
+}
+
+fn validate<P: Problem + ?Sized>(problem: &P, config: &Config) -> Result<(), MeasureError> {
+    let bad = |m: String| Err(MeasureError::Config(m));
+    let unit = problem.time_unit();
+    if !(unit.is_finite() && unit > 0.0) {
+        return bad(format!(
+            "problem `{}` has time unit {unit}; it must be positive and finite",
+            problem.name()
+        ));
+    }
+    if problem.dim() == 0 {
+        return bad(format!("problem `{}` has dimension 0", problem.name()));
+    }
+    if !(config.periods.is_finite() && config.periods > 0.0) {
+        return bad(format!(
+            "periods = {} must be positive and finite",
+            config.periods
+        ));
+    }
+    if config.samples_per_unit == 0 {
+        return bad("samples_per_unit must be at least 1".into());
+    }
+    if let Some(lr) = &config.long_run {
+        if !(lr.periods.is_finite() && lr.periods > 0.0) {
+            return bad(format!(
+                "long-run periods = {} must be positive and finite",
+                lr.periods
+            ));
+        }
+        if let Some(n) = lr.steps_per_unit {
+            ladder::grid(n, lr.periods, config.samples_per_unit).map_err(MeasureError::Config)?;
+        }
+    }
+    match &config.ladder {
+        Ladder::Steps(steps) => {
+            if steps.is_empty() {
+                return bad("the ladder is empty".into());
+            }
+            if steps.windows(2).any(|w| w[1] <= w[0]) {
+                return bad(format!("ladder {steps:?} must be strictly increasing"));
+            }
+            for &n in steps {
+                ladder::grid(n, config.periods, config.samples_per_unit)
+                    .map_err(MeasureError::Config)?;
+            }
+        }
+        Ladder::Auto {
+            start, max_rungs, ..
+        } => {
+            ladder::grid(*start, config.periods, config.samples_per_unit)
+                .map_err(MeasureError::Config)?;
+            if *max_rungs == 0 {
+                return bad("max_rungs must be at least 1".into());
+            }
+        }
+        Ladder::Tolerances(tols) => {
+            if tols.is_empty() {
+                return bad("the tolerance ladder is empty".into());
+            }
+            if let Some(t) = tols
+                .iter()
+                .find(|t| !(t.is_finite() && **t > 0.0 && **t < 1.0))
+            {
+                return bad(format!("tolerance {t} must lie in (0, 1)"));
+            }
+            if tols.windows(2).any(|w| w[1] >= w[0]) {
+                return bad(format!("tolerances {tols:?} must be strictly decreasing"));
+            }
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,434 @@
+//! Running the rungs of a ladder: the step grid of a rung, reading the
+//! solution and invariant errors at its samples, the automatic choice of the
+//! ladder, and self-convergence for problems with no exact solution.
+
+use crate::measure::method::{advance_checked, Counted, Method};
+use crate::measure::{Config, Ladder, MeasureError};
+use crate::metrics::{analyse_series, digits, SeriesAnalysis};
+use crate::problem::Problem;
+
+/// The resolution of one rung.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Resolution {
+    /// Fixed steps per time unit.
+    StepsPerUnit(u64),
+    /// Adaptive, at this tolerance.
+    Tolerance(f64),
+}
+
+impl Resolution {
+    /// The steps per time unit of a fixed-step rung.
+    ///
+    /// ```
+    /// use drift::measure::Resolution;
+    /// assert_eq!(Resolution::StepsPerUnit(64).steps_per_unit(), Some(64));
+    /// assert_eq!(Resolution::Tolerance(1e-6).steps_per_unit(), None);
+    /// ```
+    pub fn steps_per_unit(self) -> Option<u64> {
+        match self {
+            Resolution::StepsPerUnit(n) => Some(n),
+            Resolution::Tolerance(_) => None,
+        }
+    }
+}
+
+/// What the solution error is measured against.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Basis {
+    /// The problem's exact solution (at the samples where it is known).
+    Exact,
+    /// Self-convergence (Richardson): the difference to the next finer rung
+    /// at the same samples, which shrinks at the method's order. The finest
+    /// rung has no figure.
+    SelfConvergence,
+}
+
+/// One rung as run.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Rung {
+    /// Its resolution.
+    pub resolution: Resolution,
+    /// Accepted steps over the horizon.
+    pub steps: u64,
+    /// Right-hand-side (or force) evaluations.
+    pub evals: u64,
+    /// Rejected step attempts.
+    pub rejected: u64,
+    /// Digits of the largest component-scaled solution error over the
+    /// samples (`None` for the finest rung under self-convergence).
+    pub solution_digits: Option<f64>,
+    /// Digits of the largest relative error of each invariant over the samples.
+    pub invariant_digits: Vec<f64>,
+    /// Time at which the state first stopped being finite, if it did.
+    pub diverged_at: Option<f64>,
+}
+
+/// The step grid of a fixed-step rung.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Grid {
+    /// Steps per time unit.
+    pub steps_per_unit: u64,
+    /// Steps over the horizon.
+    pub total: u64,
+    /// Steps between samples.
+    pub stride: u64,
+}
+
+/// The grid of `n` steps per unit over `periods` units with `samples_per_unit`
+/// samples per unit; an error says why it does not fit together.
+///
+/// ```
+/// let g = drift::measure::ladder::grid(64, 10.0, 4).unwrap();
+/// assert_eq!((g.total, g.stride), (640, 16));
+/// assert!(drift::measure::ladder::grid(6, 10.0, 4).is_err());
+/// ```
+pub fn grid(n: u64, periods: f64, samples_per_unit: u64) -> Result<Grid, String> {
+    if n == 0 || samples_per_unit == 0 || n % samples_per_unit != 0 {
+        return Err(format!(
+            "{n} steps per unit is not a positive multiple of samples_per_unit = {samples_per_unit}"
+        ));
+    }
+    let total = n as f64 * periods;
+    if !(total.is_finite()
+        && total >= 1.0
+        && total < 2f64.powi(53)
+        && (total - total.round()).abs() < 1e-9)
+    {
+        return Err(format!(
+            "{n} steps per unit over {periods} units is not a whole number of steps"
+        ));
+    }
+    let total = total.round() as u64;
+    let stride = n / samples_per_unit;
+    if total % stride != 0 {
+        return Err(format!(
+            "{periods} units at {n} steps per unit do not hold a whole number of samples ({samples_per_unit} per unit)"
+        ));
+    }
+    Ok(Grid {
+        steps_per_unit: n,
+        total,
+        stride,
+    })
+}
+
+/// The rungs of a ladder with their series analyses.
+pub(crate) struct LadderRun {
+    pub rungs: Vec<Rung>,
+    pub basis: Basis,
+    pub solution: SeriesAnalysis,
+    pub invariant_analyses: Vec<SeriesAnalysis>,
+}
+
+/// A rung with the raw data needed after it ran.
+struct RawRung {
+    rung: Rung,
+    /// Largest scaled error against the exact solution, if any sample knew it.
+    exact_error: Option<f64>,
+    /// States at the samples.
+    samples: Vec<Vec<f64>>,
+}
+
+/// Reads errors at the samples of a run.
+struct Reader<'p, P: ?Sized> {
+    problem: &'p P,
+    scales: Vec<f64>,
+    inv0: Vec<f64>,
+    inv: Vec<f64>,
+    exact: Vec<f64>,
+    exact_error: Option<f64>,
+    inv_error: Vec<f64>,
+    samples: Vec<Vec<f64>>,
+}
+
+impl<'p, P: Problem + ?Sized> Reader<'p, P> {
+    fn new(problem: &'p P, y0: &[f64]) -> Self {
+        let n = problem.dim();
+        let m = problem.invariants().len();
+        let mut scales = vec![1.0; n];
+        problem.scales(&mut scales);
+        let mut inv0 = vec![0.0; m];
+        problem.invariant_values(problem.t0(), y0, &mut inv0);
+        Reader {
+            problem,
+            scales,
+            inv0,
+            inv: vec![0.0; m],
+            exact: vec![0.0; n],
+            exact_error: None,
+            inv_error: vec![0.0; m],
+            samples: Vec::new(),
+        }
+    }
+
+    fn read(&mut self, t: f64, y: &[f64]) {
+        if self.problem.exact(t, &mut self.exact) {
+            let e = scaled_distance(y, &self.exact, &self.scales);
+            self.exact_error = Some(self.exact_error.map_or(e, |m| m.max(e)));
+        }
+        self.problem.invariant_values(t, y, &mut self.inv);
+        for (k, inv) in self.problem.invariants().iter().enumerate() {
+            let e = (self.inv[k] - self.inv0[k]).abs() / inv.scale;
+            self.inv_error[k] = self.inv_error[k].max(if e.is_nan() { f64::INFINITY } else { e });
+        }
+        self.samples.push(y.to_vec());
+    }
+
+    fn finish(self, rung: Rung, diverged: bool) -> RawRung {
+        let mut rung = rung;
+        rung.invariant_digits = self
+            .inv_error
+            .iter()
+            .map(|&e| if diverged { 0.0 } else { digits(e) })
+            .collect();
+        RawRung {
+            rung,
+            exact_error: if diverged {
+                Some(f64::INFINITY)
+            } else {
+                self.exact_error
+            },
+            samples: self.samples,
+        }
+    }
+}
+
+/// Largest component-scaled difference `max_i |a_i - b_i| / s_i`; a NaN reads
+/// as infinity.
+pub(crate) fn scaled_distance(a: &[f64], b: &[f64], s: &[f64]) -> f64 {
+    a.iter().zip(b).zip(s).fold(0.0, |m, ((x, y), s)| {
+        let e = (x - y).abs() / s;
+        if e.is_nan() {
+            f64::INFINITY
+        } else {
+            m.max(e)
+        }
+    })
+}
+
+fn initial_state<P: Problem + ?Sized>(problem: &P) -> Vec<f64> {
+    let mut y0 = vec![0.0; problem.dim()];
+    problem.initial(&mut y0);
+    y0
+}
+
+fn run_fixed_rung<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    g: Grid,
+    periods: f64,
+) -> Result<RawRung, MeasureError> {
+    let f = Counted::new(problem);
+    let mut y = initial_state(problem);
+    let mut reader = Reader::new(problem, &y);
+    let t0 = problem.t0();
+    let h = periods * problem.time_unit() / g.total as f64;
+    let mut prev = y.clone();
+    let (mut rejected, mut diverged_at) = (0, None);
+    let mut i = 0;
+    while i < g.total {
+        let next = i + g.stride;
+        let step = advance_checked(method, &f, t0, h, i, next, &mut y, &mut prev)
+            .map_err(MeasureError::Integrator)?;
+        rejected += step.rejected;
+        if let Some(t) = step.diverged_at {
+            diverged_at = Some(t);
+            break;
+        }
+        reader.read(t0 + next as f64 * h, &y);
+        i = next;
+    }
+    let rung = Rung {
+        resolution: Resolution::StepsPerUnit(g.steps_per_unit),
+        steps: g.total,
+        evals: f.evals(),
+        rejected,
+        solution_digits: None,
+        invariant_digits: Vec::new(),
+        diverged_at,
+    };
+    Ok(reader.finish(rung, diverged_at.is_some()))
+}
+
+fn run_tolerance_rung<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    tol: f64,
+    config: &Config,
+) -> Result<RawRung, MeasureError> {
+    let f = Counted::new(problem);
+    let mut y = initial_state(problem);
+    let mut reader = Reader::new(problem, &y);
+    let t0 = problem.t0();
+    let horizon = config.periods * problem.time_unit();
+    let samples = (config.periods * config.samples_per_unit as f64)
+        .round()
+        .max(1.0) as u64;
+    let (mut steps, mut rejected, mut diverged_at) = (0, 0, None);
+    let mut ta = t0;
+    for j in 1..=samples {
+        let tb = t0 + horizon * (j as f64 / samples as f64);
+        let c = method
+            .adaptive(&f, ta, tb, &mut y, tol)
+            .map_err(MeasureError::Integrator)?;
+        steps += c.steps;
+        rejected += c.rejected;
+        if y.iter().any(|v| !v.is_finite()) {
+            diverged_at = Some(tb);
+            break;
+        }
+        reader.read(tb, &y);
+        ta = tb;
+    }
+    let rung = Rung {
+        resolution: Resolution::Tolerance(tol),
+        steps,
+        evals: f.evals(),
+        rejected,
+        solution_digits: None,
+        invariant_digits: Vec::new(),
+        diverged_at,
+    };
+    Ok(reader.finish(rung, diverged_at.is_some()))
+}
+
+/// Solution digits per rung on the chosen basis.
+fn solution_digits<P: Problem + ?Sized>(
+    problem: &P,
+    raw: &[RawRung],
+    basis: Basis,
+) -> Vec<Option<f64>> {
+    match basis {
+        Basis::Exact => raw.iter().map(|r| r.exact_error.map(digits)).collect(),
+        Basis::SelfConvergence => {
+            let mut scales = vec![1.0; problem.dim()];
+            problem.scales(&mut scales);
+            (0..raw.len())
+                .map(|k| {
+                    let (a, b) = (&raw[k], raw.get(k + 1)?);
+                    if a.rung.diverged_at.is_some() {
+                        return Some(0.0);
+                    }
+                    if b.rung.diverged_at.is_some() || a.samples.len() != b.samples.len() {
+                        return None;
+                    }
+                    let d = a
+                        .samples
+                        .iter()
+                        .zip(&b.samples)
+                        .map(|(x, y)| scaled_distance(x, y, &scales))
+                        .fold(0.0, f64::max);
+                    Some(digits(d))
+                })
+                .collect()
+        }
+    }
+}
+
+fn x_axis(rungs: &[RawRung]) -> Vec<f64> {
+    rungs
+        .iter()
+        .map(|r| match r.rung.resolution {
+            Resolution::StepsPerUnit(n) => (n as f64).log10(),
+            Resolution::Tolerance(_) => (r.rung.evals.max(1) as f64).log10(),
+        })
+        .collect()
+}
+
+fn analyse(raw: &[RawRung], d: &[Option<f64>]) -> SeriesAnalysis {
+    let steps: Vec<u64> = raw.iter().map(|r| r.rung.steps).collect();
+    analyse_series(&x_axis(raw), d, &steps)
+}
+
+/// Whether the automatic ladder can stop after the rungs so far.
+fn ladder_done<P: Problem + ?Sized>(problem: &P, raw: &[RawRung], basis: Basis) -> bool {
+    let d = solution_digits(problem, raw, basis);
+    let a = analyse(raw, &d);
+    let latest = d.iter().rev().flatten().next().copied().unwrap_or(0.0);
+    let plateau_rungs = a.plateau_from.map_or(0, |p| raw.len() - p);
+    latest >= 15.0 || a.floor_from.is_some() || plateau_rungs >= 2
+}
+
+/// Runs every rung of the configured ladder.
+pub(crate) fn run<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    config: &Config,
+) -> Result<LadderRun, MeasureError> {
+    let mut raw: Vec<RawRung> = Vec::new();
+    let mut basis = None;
+    let mut basis_of = |first: &RawRung| {
+        *basis.get_or_insert(if first.exact_error.is_some() {
+            Basis::Exact
+        } else {
+            Basis::SelfConvergence
+        })
+    };
+    match &config.ladder {
+        Ladder::Steps(steps) => {
+            for &n in steps {
+                let g = grid(n, config.periods, config.samples_per_unit)
+                    .map_err(MeasureError::Config)?;
+                raw.push(run_fixed_rung(method, problem, g, config.periods)?);
+            }
+        }
+        Ladder::Tolerances(tols) => {
+            for &tol in tols {
+                raw.push(run_tolerance_rung(method, problem, tol, config)?);
+            }
+        }
+        Ladder::Auto {
+            start,
+            max_rungs,
+            budget,
+        } => {
+            let (mut n, mut total) = (*start, 0u64);
+            loop {
+                let g = grid(n, config.periods, config.samples_per_unit)
+                    .map_err(MeasureError::Config)?;
+                if !raw.is_empty() && total.saturating_add(g.total) > *budget {
+                    break;
+                }
+                raw.push(run_fixed_rung(method, problem, g, config.periods)?);
+                total += g.total;
+                let b = basis_of(&raw[0]);
+                if raw.len() >= *max_rungs || ladder_done(problem, &raw, b) {
+                    break;
+                }
+                match n.checked_mul(2) {
+                    Some(next) => n = next,
+                    None => break,
+                }
+            }
+        }
+    }
+    let first = raw
+        .first()
+        .ok_or_else(|| MeasureError::Config("the ladder ran no rung".into()))?;
+    let basis = basis_of(first);
+    let d = solution_digits(problem, &raw, basis);
+    let solution = analyse(&raw, &d);
+    let invariant_analyses = (0..problem.invariants().len())
+        .map(|k| {
+            let dk: Vec<Option<f64>> = raw
+                .iter()
+                .map(|r| r.rung.invariant_digits.get(k).copied())
+                .collect();
+            analyse(&raw, &dk)
+        })
+        .collect();
+    let rungs = raw
+        .into_iter()
+        .zip(d)
+        .map(|(r, d)| Rung {
+            solution_digits: d,
+            ..r.rung
+        })
+        .collect();
+    Ok(LadderRun {
+        rungs,
+        basis,
+        solution,
+        invariant_analyses,
+    })
+}
