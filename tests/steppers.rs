@@ -301,7 +301,7 @@ fn assert_order(what: &str, ratio: f64, p: i32) {
 #[test]
 fn rk4_step_of_growth_is_the_taylor_polynomial() {
     // RK4's stability function is R(z) = 1 + z + z^2/2 + z^3/6 + z^4/24
-    // (HNW II, section IV.2, (2.4) and Table 2.1): one step of y' = y from
+    // (HNW II, section IV.2): one step of y' = y from
     // y = 1 gives exactly R(h) in exact arithmetic; in f64 a few ulp.
     let h: f64 = 0.1;
     let taylor = 1.0 + h + h * h / 2.0 + h.powi(3) / 6.0 + h.powi(4) / 24.0;
@@ -421,8 +421,8 @@ fn planted_bugs_show_the_order_or_floor_they_claim() {
     );
     // Stages through f32: the error stalls between 1e-12 and 1e-8 (relative)
     // for 500 to 8000 steps, while the correct RK4 goes below 1e-13 at 2000
-    // steps. The bounds bracket the random-walk estimate 6e-8 sqrt(h) of
-    // the Rk4F32 comment by a factor of about 100 each way.
+    // steps. The bounds bracket generously the random-walk estimate
+    // 6e-8 sqrt(h) of the Rk4F32 comment (3e-9 to 7e-10 here).
     for n in [500, 1000, 2000, 4000, 8000] {
         let floor = scalar_error::<Rk4F32>(&Growth, 1.0, e, n) / e;
         assert!(
@@ -532,9 +532,10 @@ fn dormand_prince_lands_on_an_awkward_end_and_runs_backward() {
 #[test]
 fn dormand_prince_counts_rejected_steps() {
     // A mildly stiff relaxation y' = -50 (y - cos t): over a long interval
-    // the controller runs into the explicit stability bound (about h = 3.3/50
-    // for Dormand-Prince, HNW II, IV.2, Fig. 2.1) and must reject steps. The
-    // counts report them, and the answer still meets a loose bound.
+    // the controller runs into the explicit stability bound (about
+    // h = 3.3/50 for Dormand-Prince, from memory; HNW II, IV.2) and must
+    // reject steps. The counts report them, and the answer still meets a
+    // loose bound.
     struct Relax;
     impl Rhs for Relax {
         fn dim(&self) -> usize {

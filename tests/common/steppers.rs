@@ -616,7 +616,7 @@ impl Integrator for DormandPrince {
 }
 
 /// Stormer-Verlet in velocity form, kick-drift-kick (Hairer, Lubich and
-/// Wanner, Geometric Numerical Integration, I.1.4 and VI.3, (3.6)):
+/// Wanner, Geometric Numerical Integration, I.1.4):
 /// `v += h/2 a(t, q); q += h v; v += h/2 a(t + h, q)`. Order 2, symmetric,
 /// symplectic. Two force evaluations per step.
 #[derive(Default)]
@@ -648,8 +648,8 @@ impl SplitStepper for Leapfrog {
 /// Yoshida's triple jump: the symmetric composition of three Stormer-Verlet
 /// steps of sizes `w1 h, w0 h, w1 h` with `w1 = 1/(2 - 2^(1/3))`,
 /// `w0 = -2^(1/3)/(2 - 2^(1/3))` (Yoshida, Phys. Lett. A 150 (1990) 262;
-/// Hairer, Lubich and Wanner, Geometric Numerical Integration, II.4,
-/// (4.4)). Order 4, symmetric, symplectic. Substeps start at `t`,
+/// Hairer, Lubich and Wanner, Geometric Numerical Integration, II.4).
+/// Order 4, symmetric, symplectic. Substeps start at `t`,
 /// `t + w1 h` and `t + (w1 + w0) h`.
 #[derive(Default)]
 pub struct TripleJump {
