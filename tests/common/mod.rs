@@ -1,6 +1,7 @@
 //! Helpers shared by the integration tests: checks that a problem's exact
 //! solution and invariants are consistent with its own right-hand side.
 #![allow(dead_code)] // each test binary uses a different subset
+pub mod steppers;
 
 use drift::Problem;
 
@@ -13,8 +14,13 @@ pub fn exact_rhs_mismatch(problem: &dyn Problem, times: &[f64], delta: f64) -> f
     // (Fornberg, Math. Comp. 51 (1988) 699, Table 1).
     const W: [f64; 4] = [4.0 / 5.0, -1.0 / 5.0, 4.0 / 105.0, -1.0 / 280.0];
     let n = problem.dim();
-    let (mut y, mut yp, mut ym, mut f, mut s) =
-        (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; n]);
+    let (mut y, mut yp, mut ym, mut f, mut s) = (
+        vec![0.0; n],
+        vec![0.0; n],
+        vec![0.0; n],
+        vec![0.0; n],
+        vec![0.0; n],
+    );
     let mut deriv = vec![0.0; n];
     problem.scales(&mut s);
     let mut worst = 0.0f64;
@@ -60,7 +66,9 @@ pub fn invariant_change_on_exact(problem: &dyn Problem, times: &[f64]) -> f64 {
 /// Reads a whitespace-separated table from `tests/data/NAME`, skipping blank
 /// lines and lines starting with `#`; each row is returned as its fields.
 pub fn read_table(name: &str) -> Vec<Vec<String>> {
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data").join(name);
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data")
+        .join(name);
     let text = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
     text.lines()
         .map(str::trim)

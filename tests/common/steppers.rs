@@ -1,0 +1,675 @@
+//! Test steppers for the integration tests: textbook explicit Runge-Kutta
+//! methods built on one Butcher-tableau engine, Stormer-Verlet and its
+//! fourth-order triple-jump composition, and an adaptive Dormand-Prince 5(4)
+//! integrator. They are not public API; they exist so the measuring code can
+//! be tested against methods whose orders are known from the literature.
+//!
+//! Some variants are wrong ON PURPOSE: [`Rk4WrongCoef`], [`Rk4WrongTime`] and
+//! [`Rk4F32`] each carry one planted bug of a kind that survives ordinary unit
+//! tests (a mistyped stage coefficient, a wrong stage time, an f32 round trip).
+//! Tests use them to show that the instrument notices such bugs. Do not "fix"
+//! them.
+
+use std::marker::PhantomData;
+
+use drift::{Accel, Control, Counts, IntegrateError, Integrator, Rhs, SplitStepper, Stepper};
+
+/// A Butcher tableau of an explicit Runge-Kutta method with `S` stages
+/// (Hairer, Norsett and Wanner I, section II.1, (1.8)-(1.9)): `a` strictly
+/// lower triangular, weights `b`, nodes (stage times) `c`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Tableau<const S: usize> {
+    /// Stage matrix, strictly lower triangular.
+    pub a: [[f64; S]; S],
+    /// Weights of the result.
+    pub b: [f64; S],
+    /// Nodes: stage `i` is evaluated at `t + c[i] h`.
+    pub c: [f64; S],
+    /// The order the method is published with (for a planted variant: the
+    /// order of the method it imitates, which it does not reach).
+    pub claimed_order: u32,
+}
+
+/// A type that names a tableau, so the engine is monomorphised over the
+/// coefficients and the compiler sees them as constants.
+pub trait Method<const S: usize> {
+    /// The coefficients.
+    const TABLEAU: Tableau<S>;
+}
+
+/// How the engine stores a stage value `y + h sum_j a_ij k_j` before the
+/// right-hand side sees it: the hook behind the planted [`Rk4F32`].
+pub trait StageRounding {
+    /// False when [`StageRounding::round`] is the identity.
+    const ROUNDS: bool;
+    /// Rounds one component of a stage value.
+    fn round(x: f64) -> f64;
+}
+
+/// Stage values kept in full f64 (every correct method).
+pub struct Exact;
+
+impl StageRounding for Exact {
+    const ROUNDS: bool = false;
+    #[inline(always)]
+    fn round(x: f64) -> f64 {
+        x
+    }
+}
+
+/// Planted bug: stage values rounded through f32, as if a stage buffer had
+/// been made `Vec<f32>` for speed.
+pub struct ThroughF32;
+
+impl StageRounding for ThroughF32 {
+    const ROUNDS: bool = true;
+    #[inline(always)]
+    fn round(x: f64) -> f64 {
+        x as f32 as f64
+    }
+}
+
+/// The one explicit Runge-Kutta engine (Hairer, Norsett and Wanner I,
+/// section II.1, (1.8)): `k_i = f(t + c_i h, y + h sum_{j<i} a_ij k_j)`,
+/// `y <- y + h sum_i b_i k_i`. Scratch buffers are sized on first use and
+/// reused for every later step of the same dimension.
+pub struct ExplicitRk<const S: usize, M, R = Exact> {
+    k: [Vec<f64>; S],
+    stage: Vec<f64>,
+    _method: PhantomData<(M, R)>,
+}
+
+impl<const S: usize, M, R> Default for ExplicitRk<S, M, R> {
+    fn default() -> Self {
+        ExplicitRk {
+            k: std::array::from_fn(|_| Vec::new()),
+            stage: Vec::new(),
+            _method: PhantomData,
+        }
+    }
+}
+
+impl<const S: usize, M: Method<S>, R: StageRounding> ExplicitRk<S, M, R> {
+    /// Sizes the scratch buffers for states of length `n` (allocates only
+    /// when `n` changes).
+    fn ensure(&mut self, n: usize) {
+        if self.stage.len() != n {
+            self.stage.resize(n, 0.0);
+            for k in &mut self.k {
+                k.resize(n, 0.0);
+            }
+        }
+    }
+
+    /// Computes the stages `first..S` at `(t, y)` with step `h`; the stages
+    /// before `first` must already be in `self.k` (FSAL reuse of `k_1`).
+    /// Afterwards `self.stage` holds the last stage value.
+    #[inline(always)]
+    fn stages<F: Rhs + ?Sized>(&mut self, f: &F, t: f64, y: &[f64], h: f64, first: usize) {
+        let tab = M::TABLEAU;
+        let n = y.len();
+        for i in first..S {
+            let (done, rest) = self.k.split_at_mut(i);
+            let ki = &mut rest[0][..n];
+            if i == 0 {
+                // a_1j = 0: the first stage value is y itself.
+                f.rhs(t + tab.c[0] * h, y, ki);
+                continue;
+            }
+            // stage = y + h sum_j a_ij k_j: the first nonzero term fused with
+            // the copy of y (one pass for RK4's single-term rows), the others
+            // added one by one.
+            let stage = &mut self.stage[..n];
+            let row = &tab.a[i][..i];
+            match row.iter().position(|aij| *aij != 0.0) {
+                Some(j0) => {
+                    let c = h * row[j0];
+                    for ((s, yv), k) in stage.iter_mut().zip(y).zip(done[j0].iter()) {
+                        *s = yv + c * k;
+                    }
+                    for (aij, kj) in row.iter().zip(done.iter()).skip(j0 + 1) {
+                        if *aij != 0.0 {
+                            let c = h * aij;
+                            for (s, k) in stage.iter_mut().zip(kj.iter()) {
+                                *s += c * k;
+                            }
+                        }
+                    }
+                }
+                None => stage.copy_from_slice(y),
+            }
+            if R::ROUNDS {
+                for s in stage.iter_mut() {
+                    *s = R::round(*s);
+                }
+            }
+            f.rhs(t + tab.c[i] * h, stage, ki);
+        }
+    }
+
+    /// Replaces `y` by `y + h sum_i w_i k_i`, rounding `y` once per step.
+    #[inline(always)]
+    fn combine_in_place(&self, y: &mut [f64], h: f64, w: &[f64; S]) {
+        let n = y.len();
+        let k: [&[f64]; S] = std::array::from_fn(|i| &self.k[i][..n]);
+        for (m, ym) in y.iter_mut().enumerate() {
+            let mut acc = 0.0;
+            for (wi, ki) in w.iter().zip(&k) {
+                acc += wi * ki[m];
+            }
+            *ym += h * acc;
+        }
+    }
+}
+
+impl<const S: usize, M: Method<S>, R: StageRounding> Stepper for ExplicitRk<S, M, R> {
+    fn step<F: Rhs + ?Sized>(&mut self, f: &F, t: f64, y: &mut [f64], h: f64) {
+        self.ensure(y.len());
+        self.stages(f, t, y, h, 0);
+        self.combine_in_place(y, h, &M::TABLEAU.b);
+    }
+}
+
+/// Explicit Euler (Hairer, Norsett and Wanner I, section II.1), order 1.
+pub struct EulerTableau;
+impl Method<1> for EulerTableau {
+    const TABLEAU: Tableau<1> = Tableau {
+        a: [[0.0]],
+        b: [1.0],
+        c: [0.0],
+        claimed_order: 1,
+    };
+}
+/// Explicit Euler, order 1.
+pub type Euler = ExplicitRk<1, EulerTableau>;
+
+/// Heun's method, the explicit trapezoidal rule (Hairer, Norsett and Wanner I,
+/// section II.1, (1.6)), order 2.
+pub struct HeunTableau;
+impl Method<2> for HeunTableau {
+    const TABLEAU: Tableau<2> = Tableau {
+        a: [[0.0, 0.0], [1.0, 0.0]],
+        b: [0.5, 0.5],
+        c: [0.0, 1.0],
+        claimed_order: 2,
+    };
+}
+/// Heun's method, order 2.
+pub type Heun = ExplicitRk<2, HeunTableau>;
+
+/// Explicit midpoint rule, Runge's method (Hairer, Norsett and Wanner I,
+/// section II.1, (1.5)), order 2.
+pub struct MidpointTableau;
+impl Method<2> for MidpointTableau {
+    const TABLEAU: Tableau<2> = Tableau {
+        a: [[0.0, 0.0], [0.5, 0.0]],
+        b: [0.0, 1.0],
+        c: [0.0, 0.5],
+        claimed_order: 2,
+    };
+}
+/// Explicit midpoint rule, order 2.
+pub type Midpoint = ExplicitRk<2, MidpointTableau>;
+
+/// The classical Runge-Kutta method (Kutta 1901; Hairer, Norsett and Wanner
+/// I, section II.1, Table 1.2 left), order 4.
+pub struct Rk4Tableau;
+impl Method<4> for Rk4Tableau {
+    const TABLEAU: Tableau<4> = RK4;
+}
+const RK4: Tableau<4> = Tableau {
+    a: [
+        [0.0, 0.0, 0.0, 0.0],
+        [0.5, 0.0, 0.0, 0.0],
+        [0.0, 0.5, 0.0, 0.0],
+        [0.0, 0.0, 1.0, 0.0],
+    ],
+    b: [1.0 / 6.0, 1.0 / 3.0, 1.0 / 3.0, 1.0 / 6.0],
+    c: [0.0, 0.5, 0.5, 1.0],
+    claimed_order: 4,
+};
+/// Classical RK4, order 4.
+pub type Rk4 = ExplicitRk<4, Rk4Tableau>;
+
+/// PLANTED BUG: classical RK4 with `a32 = 0.5` mistyped as `0.49` (nodes
+/// and weights left correct).
+///
+/// Order drops to 1, on every problem, autonomous or not: the third stage
+/// value is now `y + 0.49 h k_2`, i.e. its effective node is the row sum
+/// `a31 + a32 = 0.49`, not `c3 = 0.5`. The second-order condition
+/// `sum_i b_i sum_j a_ij = 1/2` (Hairer, Norsett and Wanner I, II.2,
+/// Table 2.2) becomes `1/3 * 0.5 + 1/3 * 0.49 + 1/6 * 1 = 1/2 - 1/300`, so
+/// the local error keeps an `h^2 y''/300` term and the global error is O(h).
+/// (For y' = y this is visible directly: the `z^2` coefficient of the
+/// stability function is `b A 1 = 1/2 - 1/300`.) On a non-autonomous
+/// problem the stage time `c3 = 0.5` no longer matches the row sum either,
+/// which also breaks the condition `c = A 1`; still order 1.
+pub struct Rk4WrongCoefTableau;
+impl Method<4> for Rk4WrongCoefTableau {
+    const TABLEAU: Tableau<4> = {
+        let mut t = RK4;
+        t.a[2][1] = 0.49;
+        t
+    };
+}
+/// Planted bug: RK4 with a mistyped stage coefficient (order 1).
+pub type Rk4WrongCoef = ExplicitRk<4, Rk4WrongCoefTableau>;
+
+/// PLANTED BUG: classical RK4 with the third stage evaluated at `t` instead
+/// of `t + h/2` (`c3 = 0.5` mistyped as `0.0`; stage matrix and weights
+/// correct).
+///
+/// An autonomous problem never looks at `c`, so there it is still order 4.
+/// On a non-autonomous problem order drops to 1: for `y' = g(t)` a step is
+/// the quadrature `h sum_i b_i g(t + c_i h) = h g + h^2 g' sum_i b_i c_i +
+/// ...`, and `sum_i b_i c_i = 1/3 * 0.5 + 1/3 * 0 + 1/6 * 1 = 1/3` instead
+/// of 1/2, so the local error keeps an `h^2 g'/6` term and the global error
+/// is O(h). (Any single wrong node of RK4 does this, because every `b_i` is
+/// nonzero.)
+pub struct Rk4WrongTimeTableau;
+impl Method<4> for Rk4WrongTimeTableau {
+    const TABLEAU: Tableau<4> = {
+        let mut t = RK4;
+        t.c[2] = 0.0;
+        t
+    };
+}
+/// Planted bug: RK4 with a wrong stage time (order 4 autonomous, 1 otherwise).
+pub type Rk4WrongTime = ExplicitRk<4, Rk4WrongTimeTableau>;
+
+/// PLANTED BUG: correct classical RK4 whose stage values `y + h sum a k`
+/// are rounded through f32, as if the stage buffer were `Vec<f32>`. Order 4
+/// until the error meets a floor of about 9 to 10 digits instead of 15 to
+/// 16: each rounded stage value is off by up to 2^-24 |y| (6e-8 relative),
+/// which perturbs the step's increment by about `h L 6e-8 |y|` (L the
+/// Lipschitz constant); over `N = T/h` steps these unbiased errors add up
+/// like a random walk to about `6e-8 L |y| sqrt(T h)`. On y' = y over
+/// [0, 1] that is 1e-9 to 1e-10 between 200 and 10000 steps (measured in
+/// tests/steppers.rs), far above the f64 roundoff of a correct RK4.
+pub type Rk4F32 = ExplicitRk<4, Rk4Tableau, ThroughF32>;
+
+/// Dormand-Prince 5(4) (Dormand and Prince, J. Comput. Appl. Math. 6 (1980)
+/// 19; Hairer, Norsett and Wanner I, section II.5, Table 5.2): the stage
+/// matrix, nodes and 5th-order weights `b`. The last row of `a` equals `b`
+/// (first same as last). The embedded 4th-order weights are
+/// [`DORMAND_PRINCE_B_HAT`]. Verified by the order conditions in
+/// tests/steppers.rs.
+pub struct DormandPrinceTableau;
+impl Method<7> for DormandPrinceTableau {
+    const TABLEAU: Tableau<7> = Tableau {
+        a: [
+            [0.0; 7],
+            [1.0 / 5.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0],
+            [3.0 / 40.0, 9.0 / 40.0, 0.0, 0.0, 0.0, 0.0, 0.0],
+            [44.0 / 45.0, -56.0 / 15.0, 32.0 / 9.0, 0.0, 0.0, 0.0, 0.0],
+            [
+                19372.0 / 6561.0,
+                -25360.0 / 2187.0,
+                64448.0 / 6561.0,
+                -212.0 / 729.0,
+                0.0,
+                0.0,
+                0.0,
+            ],
+            [
+                9017.0 / 3168.0,
+                -355.0 / 33.0,
+                46732.0 / 5247.0,
+                49.0 / 176.0,
+                -5103.0 / 18656.0,
+                0.0,
+                0.0,
+            ],
+            DP_B,
+        ],
+        b: DP_B,
+        c: [0.0, 1.0 / 5.0, 3.0 / 10.0, 4.0 / 5.0, 8.0 / 9.0, 1.0, 1.0],
+        claimed_order: 5,
+    };
+}
+const DP_B: [f64; 7] = [
+    35.0 / 384.0,
+    0.0,
+    500.0 / 1113.0,
+    125.0 / 192.0,
+    -2187.0 / 6784.0,
+    11.0 / 84.0,
+    0.0,
+];
+
+/// Embedded 4th-order weights of Dormand-Prince 5(4) (Hairer, Norsett and
+/// Wanner I, section II.5, Table 5.2, the `b^` row).
+pub const DORMAND_PRINCE_B_HAT: [f64; 7] = [
+    5179.0 / 57600.0,
+    0.0,
+    7571.0 / 16695.0,
+    393.0 / 640.0,
+    -92097.0 / 339200.0,
+    187.0 / 2100.0,
+    1.0 / 40.0,
+];
+
+/// Adaptive Dormand-Prince 5(4) integrator with FSAL and local
+/// extrapolation (the 5th-order result is propagated), error control as in
+/// Hairer, Norsett and Wanner I, section II.4. Also runs `Control::Steps(n)`
+/// as `n` equal 5th-order steps.
+///
+/// Construct with `DormandPrince::default()` (at most [`DEFAULT_MAX_STEPS`]
+/// step attempts per call) or [`DormandPrince::with_max_steps`].
+pub struct DormandPrince {
+    rk: ExplicitRk<7, DormandPrinceTableau>,
+    y_new: Vec<f64>,
+    max_steps: u64,
+}
+
+/// Default bound on step attempts (accepted plus rejected) per call of
+/// [`DormandPrince`].
+pub const DEFAULT_MAX_STEPS: u64 = 100_000;
+
+impl Default for DormandPrince {
+    fn default() -> Self {
+        Self::with_max_steps(DEFAULT_MAX_STEPS)
+    }
+}
+
+/// Requested tolerances of an adaptive run.
+#[derive(Clone, Copy)]
+struct Tol {
+    rtol: f64,
+    atol: f64,
+}
+
+impl Tol {
+    /// Scaled RMS norm `sqrt(mean((x_i / (atol + rtol |s_i|))^2))` of pairs
+    /// `(x_i, s_i)` (Hairer, Norsett and Wanner I, II.4, (4.11)). The scale
+    /// is zero only for `atol = 0` and `s_i = 0`; then `x_i = 0` counts as
+    /// no error and anything else as an infinite one.
+    fn rms(self, pairs: impl Iterator<Item = (f64, f64)>) -> f64 {
+        let (mut sum, mut n) = (0.0, 0usize);
+        for (x, s) in pairs {
+            let d = self.atol + self.rtol * s.abs();
+            let r = if d > 0.0 {
+                x / d
+            } else if x == 0.0 {
+                0.0
+            } else {
+                f64::INFINITY
+            };
+            sum += r * r;
+            n += 1;
+        }
+        (sum / n.max(1) as f64).sqrt()
+    }
+}
+
+/// Safety factor, step-factor bounds and order of the error estimate
+/// (Hairer, Norsett and Wanner I, section II.4, (4.13)).
+const SAFETY: f64 = 0.9;
+const FAC_MIN: f64 = 0.2;
+const FAC_MAX: f64 = 10.0;
+const ERR_EXPONENT: f64 = 1.0 / 5.0;
+
+impl DormandPrince {
+    /// An integrator that gives up (with [`IntegrateError::Failed`]) after
+    /// `max_steps` step attempts in one call.
+    pub fn with_max_steps(max_steps: u64) -> Self {
+        DormandPrince {
+            rk: ExplicitRk::default(),
+            y_new: Vec::new(),
+            max_steps,
+        }
+    }
+
+    /// One attempted step from `(t, y)` with `k_1 = f(t, y)` already in
+    /// place: leaves the 5th-order result in `self.y_new` and `f(t + h,
+    /// y_new)` in `k_7`.
+    fn attempt<F: Rhs + ?Sized>(&mut self, f: &F, t: f64, y: &[f64], h: f64) {
+        self.rk.stages(f, t, y, h, 1);
+        // Row 7 of `a` is `b`, so the last stage value is the new state.
+        self.y_new.copy_from_slice(&self.rk.stage);
+    }
+
+    /// Accepts the attempted step: `y <- y_new`, `k_1 <- k_7` (FSAL).
+    fn accept(&mut self, y: &mut [f64]) {
+        y.copy_from_slice(&self.y_new);
+        self.rk.k.swap(0, 6);
+    }
+
+    /// Scaled RMS error norm of the last attempt (Hairer, Norsett and Wanner
+    /// I, II.4, (4.11)): `sqrt(mean((e_i / sc_i)^2))`, `e = h sum (b - b^) k`,
+    /// `sc_i = atol + rtol max(|y_i|, |y_new_i|)`.
+    fn error_norm(&self, y: &[f64], h: f64, tol: Tol) -> f64 {
+        let b = DormandPrinceTableau::TABLEAU.b;
+        let k = &self.rk.k;
+        tol.rms((0..y.len()).map(|m| {
+            let mut e = 0.0;
+            for i in 0..7 {
+                e += (b[i] - DORMAND_PRINCE_B_HAT[i]) * k[i][m];
+            }
+            (h * e, y[m].abs().max(self.y_new[m].abs()))
+        }))
+    }
+
+    /// Starting step size (Hairer, Norsett and Wanner I, section II.4,
+    /// "Starting step size", steps (a)-(f)), with `k_1 = f(t0, y0)` in
+    /// place; costs one evaluation. The exponent is `1/(q + 1)` with `q = 4`
+    /// the order of the error estimate. Returns a magnitude in `(0, span]`.
+    fn initial_step<F: Rhs + ?Sized>(
+        &mut self,
+        f: &F,
+        t0: f64,
+        y: &[f64],
+        span: f64,
+        tol: Tol,
+    ) -> f64 {
+        let dir = span.signum();
+        let span = span.abs();
+        let k1 = &self.rk.k[0];
+        let d0 = tol.rms(y.iter().map(|&yi| (yi, yi)));
+        let d1 = tol.rms(y.iter().zip(k1).map(|(&yi, &fi)| (fi, yi)));
+        let h0 = if d0 < 1e-5 || d1 < 1e-5 {
+            1e-6
+        } else {
+            0.01 * d0 / d1
+        }
+        .min(span);
+        for ((s, &yi), &fi) in self.rk.stage.iter_mut().zip(y).zip(k1) {
+            *s = yi + dir * h0 * fi;
+        }
+        let (k1, rest) = self.rk.k.split_at_mut(1);
+        let f1 = &mut rest[0];
+        f.rhs(t0 + dir * h0, &self.rk.stage, f1);
+        // h0 > 0: it is at least min(1e-6, span) and span > 0.
+        let d2 = tol.rms(
+            y.iter()
+                .zip(&k1[0])
+                .zip(f1.iter())
+                .map(|((&yi, &a), &b)| (b - a, yi)),
+        ) / h0;
+        let dmax = d1.max(d2);
+        let h1 = if dmax > 1e-15 {
+            (0.01 / dmax).powf(ERR_EXPONENT)
+        } else {
+            (h0 * 1e-3).max(1e-6)
+        };
+        (100.0 * h0).min(h1).min(span)
+    }
+
+    fn fixed<F: Rhs + ?Sized>(
+        &mut self,
+        f: &F,
+        t0: f64,
+        t1: f64,
+        y: &mut [f64],
+        n: u64,
+    ) -> Result<Counts, IntegrateError> {
+        if n == 0 {
+            if t0 == t1 {
+                return Ok(Counts::default());
+            }
+            return Err(IntegrateError::Failed {
+                t: t0,
+                reason: "zero steps for a nonempty interval".into(),
+            });
+        }
+        let h = (t1 - t0) / n as f64;
+        f.rhs(t0, y, &mut self.rk.k[0]);
+        for i in 0..n {
+            // Integer step counting: t_i = t0 + i h, never t += h.
+            self.attempt(f, t0 + i as f64 * h, y, h);
+            self.accept(y);
+        }
+        Ok(Counts {
+            steps: n,
+            rejected: 0,
+        })
+    }
+
+    fn adaptive<F: Rhs + ?Sized>(
+        &mut self,
+        f: &F,
+        t0: f64,
+        t1: f64,
+        y: &mut [f64],
+        tol: Tol,
+    ) -> Result<Counts, IntegrateError> {
+        let mut counts = Counts::default();
+        if t0 == t1 {
+            return Ok(counts);
+        }
+        let dir = (t1 - t0).signum();
+        f.rhs(t0, y, &mut self.rk.k[0]);
+        let mut h = dir * self.initial_step(f, t0, y, t1 - t0, tol);
+        let mut t = t0;
+        let mut rejected_last = false;
+        loop {
+            if counts.steps + counts.rejected >= self.max_steps {
+                return Err(IntegrateError::Failed {
+                    t,
+                    reason: format!("maximum of {} step attempts reached", self.max_steps),
+                });
+            }
+            // Land exactly on t1: when this step would reach or pass it (or
+            // leave a sliver shorter than 1% of a step), take t1 - t instead.
+            let last = (t + 1.01 * h - t1) * dir >= 0.0;
+            if last {
+                h = t1 - t;
+            }
+            if h == 0.0 || h.abs() <= 16.0 * f64::EPSILON * t.abs() {
+                return Err(IntegrateError::Failed {
+                    t,
+                    reason: format!("step size underflow (h = {h:e})"),
+                });
+            }
+            self.attempt(f, t, y, h);
+            let err = self.error_norm(y, h, tol);
+            // err == 0 gives the maximal growth; NaN or infinity the minimal.
+            let grow = if err.is_finite() {
+                if err > 0.0 {
+                    SAFETY * err.powf(-ERR_EXPONENT)
+                } else {
+                    FAC_MAX
+                }
+            } else {
+                FAC_MIN
+            };
+            if err <= 1.0 {
+                self.accept(y);
+                counts.steps += 1;
+                if last {
+                    return Ok(counts);
+                }
+                t += h;
+                let cap = if rejected_last { 1.0 } else { FAC_MAX };
+                h *= grow.clamp(FAC_MIN, cap);
+                rejected_last = false;
+            } else {
+                counts.rejected += 1;
+                h *= grow.clamp(FAC_MIN, 1.0);
+                rejected_last = true;
+            }
+        }
+    }
+}
+
+impl Integrator for DormandPrince {
+    fn integrate<F: Rhs + ?Sized>(
+        &mut self,
+        f: &F,
+        t0: f64,
+        t1: f64,
+        y: &mut [f64],
+        control: Control,
+    ) -> Result<Counts, IntegrateError> {
+        self.rk.ensure(y.len());
+        self.y_new.resize(y.len(), 0.0);
+        match control {
+            Control::Steps(n) => self.fixed(f, t0, t1, y, n),
+            Control::Tolerance { rtol, atol } => {
+                if !(rtol >= 0.0 && atol >= 0.0 && rtol + atol > 0.0) {
+                    return Err(IntegrateError::Unsupported(control));
+                }
+                self.adaptive(f, t0, t1, y, Tol { rtol, atol })
+            }
+        }
+    }
+}
+
+/// Stormer-Verlet in velocity form, kick-drift-kick (Hairer, Lubich and
+/// Wanner, Geometric Numerical Integration, I.1.4):
+/// `v += h/2 a(t, q); q += h v; v += h/2 a(t + h, q)`. Order 2, symmetric,
+/// symplectic. Two force evaluations per step.
+#[derive(Default)]
+pub struct Leapfrog {
+    a: Vec<f64>,
+}
+
+impl Leapfrog {
+    fn kick<A: Accel + ?Sized>(&mut self, f: &A, t: f64, q: &[f64], v: &mut [f64], dt: f64) {
+        f.accel(t, q, &mut self.a);
+        for (vi, ai) in v.iter_mut().zip(&self.a) {
+            *vi += dt * ai;
+        }
+    }
+}
+
+impl SplitStepper for Leapfrog {
+    fn step<A: Accel + ?Sized>(&mut self, f: &A, t: f64, q: &mut [f64], v: &mut [f64], h: f64) {
+        self.a.resize(q.len(), 0.0);
+        let half = 0.5 * h;
+        self.kick(f, t, q, v, half);
+        for (qi, vi) in q.iter_mut().zip(v.iter()) {
+            *qi += h * vi;
+        }
+        self.kick(f, t + h, q, v, half);
+    }
+}
+
+/// Yoshida's triple jump: the symmetric composition of three Stormer-Verlet
+/// steps of sizes `w1 h, w0 h, w1 h` with `w1 = 1/(2 - 2^(1/3))`,
+/// `w0 = -2^(1/3)/(2 - 2^(1/3))` (Yoshida, Phys. Lett. A 150 (1990) 262;
+/// Hairer, Lubich and Wanner, Geometric Numerical Integration, II.4).
+/// Order 4, symmetric, symplectic. Substeps start at `t`,
+/// `t + w1 h` and `t + (w1 + w0) h`.
+#[derive(Default)]
+pub struct TripleJump {
+    inner: Leapfrog,
+}
+
+impl TripleJump {
+    /// The weights `(w0, w1)`.
+    pub fn weights() -> (f64, f64) {
+        let cbrt2 = 2f64.cbrt();
+        let d = 2.0 - cbrt2; // 0.74, far from 0
+        (-cbrt2 / d, 1.0 / d)
+    }
+}
+
+impl SplitStepper for TripleJump {
+    fn step<A: Accel + ?Sized>(&mut self, f: &A, t: f64, q: &mut [f64], v: &mut [f64], h: f64) {
+        let (w0, w1) = Self::weights();
+        self.inner.step(f, t, q, v, w1 * h);
+        self.inner.step(f, t + w1 * h, q, v, w0 * h);
+        self.inner.step(f, t + (w1 + w0) * h, q, v, w1 * h);
+    }
+}

@@ -1,0 +1,632 @@
+//! Tests of the test steppers in tests/common/steppers.rs: their tableaux
+//! against the Runge-Kutta order conditions, a few exact one-step identities,
+//! measured convergence orders (including the planted bugs, which must show
+//! the order or floor their comments claim) and the adaptive Dormand-Prince
+//! integrator's contract (tolerance, landing on t1, counts, failures).
+
+mod common;
+
+use std::cell::Cell;
+
+use common::steppers::*;
+use drift::{Accel, Control, IntegrateError, Integrator, Rhs, SplitStepper, Stepper};
+
+// ---------------------------------------------------------------------------
+// Order conditions (Hairer, Norsett and Wanner I, section II.2, Table 2.2).
+
+fn mat<const S: usize>(a: &[[f64; S]; S], v: &[f64; S]) -> [f64; S] {
+    std::array::from_fn(|i| (0..S).map(|j| a[i][j] * v[j]).sum())
+}
+
+fn had<const S: usize>(u: &[f64; S], v: &[f64; S]) -> [f64; S] {
+    std::array::from_fn(|i| u[i] * v[i])
+}
+
+fn dot<const S: usize>(u: &[f64; S], v: &[f64; S]) -> f64 {
+    (0..S).map(|i| u[i] * v[i]).sum()
+}
+
+/// The order conditions of orders 1 to 5 for weights `b` and stage matrix
+/// `a`, with `c = A 1` (the row sums) as the conditions assume
+/// (Hairer, Norsett and Wanner I, II.2, Table 2.2, and (2.21) for order 5):
+/// `(order, name, sum, required value)`.
+fn conditions<const S: usize>(
+    a: &[[f64; S]; S],
+    b: &[f64; S],
+) -> Vec<(u32, &'static str, f64, f64)> {
+    let one = [1.0; S];
+    let c = mat(a, &one);
+    let c2 = had(&c, &c);
+    let c3 = had(&c2, &c);
+    let ac = mat(a, &c);
+    let ac2 = mat(a, &c2);
+    let aac = mat(a, &ac);
+    vec![
+        (1, "sum b = 1", dot(b, &one), 1.0),
+        (2, "sum b c = 1/2", dot(b, &c), 1.0 / 2.0),
+        (3, "sum b c^2 = 1/3", dot(b, &c2), 1.0 / 3.0),
+        (3, "sum b a c = 1/6", dot(b, &ac), 1.0 / 6.0),
+        (4, "sum b c^3 = 1/4", dot(b, &c3), 1.0 / 4.0),
+        (4, "sum b c a c = 1/8", dot(b, &had(&c, &ac)), 1.0 / 8.0),
+        (4, "sum b a c^2 = 1/12", dot(b, &ac2), 1.0 / 12.0),
+        (4, "sum b a a c = 1/24", dot(b, &aac), 1.0 / 24.0),
+        (5, "sum b c^4 = 1/5", dot(b, &had(&c3, &c)), 1.0 / 5.0),
+        (
+            5,
+            "sum b c^2 a c = 1/10",
+            dot(b, &had(&c2, &ac)),
+            1.0 / 10.0,
+        ),
+        (
+            5,
+            "sum b c a c^2 = 1/15",
+            dot(b, &had(&c, &ac2)),
+            1.0 / 15.0,
+        ),
+        (
+            5,
+            "sum b c a a c = 1/30",
+            dot(b, &had(&c, &aac)),
+            1.0 / 30.0,
+        ),
+        (
+            5,
+            "sum b (a c)^2 = 1/20",
+            dot(b, &had(&ac, &ac)),
+            1.0 / 20.0,
+        ),
+        (5, "sum b a c^3 = 1/20", dot(b, &mat(a, &c3)), 1.0 / 20.0),
+        (
+            5,
+            "sum b a (c a c) = 1/40",
+            dot(b, &mat(a, &had(&c, &ac))),
+            1.0 / 40.0,
+        ),
+        (5, "sum b a a c^2 = 1/60", dot(b, &mat(a, &ac2)), 1.0 / 60.0),
+        (
+            5,
+            "sum b a a a c = 1/120",
+            dot(b, &mat(a, &aac)),
+            1.0 / 120.0,
+        ),
+    ]
+}
+
+/// Tolerance for a condition evaluated in f64 from rounded coefficients
+/// (Dormand-Prince entries reach about 11 in magnitude): common practice,
+/// no source.
+const COND_TOL: f64 = 1e-13;
+
+/// Names of the conditions up to `order` that `(a, b)` violates.
+fn failed_conditions<const S: usize>(a: &[[f64; S]; S], b: &[f64; S], order: u32) -> Vec<String> {
+    conditions(a, b)
+        .into_iter()
+        .filter(|&(p, _, lhs, rhs)| p <= order && (lhs - rhs).abs() > COND_TOL)
+        .map(|(_, name, lhs, _)| format!("{name} (got {lhs})"))
+        .collect()
+}
+
+/// Rows `i` (1-based) whose node `c_i` differs from the row sum `sum_j a_ij`
+/// (Hairer, Norsett and Wanner I, II.1, (1.9)).
+fn bad_row_sums<const S: usize>(t: &Tableau<S>) -> Vec<usize> {
+    (0..S)
+        .filter(|&i| (t.a[i].iter().sum::<f64>() - t.c[i]).abs() > COND_TOL)
+        .map(|i| i + 1)
+        .collect()
+}
+
+/// Strictly lower triangular `a` (explicit method).
+fn is_explicit<const S: usize>(t: &Tableau<S>) -> bool {
+    (0..S).all(|i| (i..S).all(|j| t.a[i][j] == 0.0))
+}
+
+fn check_tableau<const S: usize, M: Method<S>>(name: &str) {
+    let t = M::TABLEAU;
+    assert!(is_explicit(&t), "{name}: not explicit");
+    assert_eq!(
+        bad_row_sums(&t),
+        Vec::<usize>::new(),
+        "{name}: c_i != sum_j a_ij"
+    );
+    let failed = failed_conditions(&t.a, &t.b, t.claimed_order);
+    assert!(
+        failed.is_empty(),
+        "{name}: order {} conditions fail: {failed:?}",
+        t.claimed_order
+    );
+}
+
+#[test]
+fn correct_tableaux_satisfy_their_order_conditions() {
+    // Orders: Euler 1, Heun and midpoint 2, classical RK4 4 (Hairer, Norsett
+    // and Wanner I, II.1); Dormand-Prince 5 (Dormand and Prince 1980; HNW I,
+    // II.5, Table 5.2).
+    check_tableau::<1, EulerTableau>("Euler");
+    check_tableau::<2, HeunTableau>("Heun");
+    check_tableau::<2, MidpointTableau>("midpoint");
+    check_tableau::<4, Rk4Tableau>("RK4");
+    check_tableau::<7, DormandPrinceTableau>("Dormand-Prince 5th-order weights");
+    // The claimed orders are the published ones, not more: each method fails
+    // some condition of the next order (otherwise the order test above would
+    // not bound anything).
+    assert!(!failed_conditions(&EulerTableau::TABLEAU.a, &EulerTableau::TABLEAU.b, 2).is_empty());
+    assert!(!failed_conditions(&HeunTableau::TABLEAU.a, &HeunTableau::TABLEAU.b, 3).is_empty());
+    assert!(!failed_conditions(&Rk4Tableau::TABLEAU.a, &Rk4Tableau::TABLEAU.b, 5).is_empty());
+}
+
+#[test]
+fn dormand_prince_embedded_weights_are_fourth_order_exactly() {
+    // HNW I, II.5, Table 5.2: the b^ row is an order-4 method on the same
+    // stages, and not order 5 (else the error estimate b - b^ would vanish).
+    let t = DormandPrinceTableau::TABLEAU;
+    let failed4 = failed_conditions(&t.a, &DORMAND_PRINCE_B_HAT, 4);
+    assert!(
+        failed4.is_empty(),
+        "embedded weights fail order 4: {failed4:?}"
+    );
+    assert!(!failed_conditions(&t.a, &DORMAND_PRINCE_B_HAT, 5).is_empty());
+    // First same as last: the last stage row equals b, with c_7 = 1
+    // (Dormand and Prince 1980).
+    assert_eq!(t.a[6], t.b);
+    assert_eq!(t.c[6], 1.0);
+}
+
+#[test]
+fn planted_wrong_coefficient_fails_an_identified_condition() {
+    // a32 = 0.49 instead of 0.5 (HNW I, II.1, Table 1.2 has 1/2): row 3
+    // no longer sums to c3 = 1/2, and with c = A 1 the second-order
+    // condition sum b c = 1/2 fails by b3 * 0.01 = 1/300.
+    let t = Rk4WrongCoefTableau::TABLEAU;
+    assert_eq!(bad_row_sums(&t), vec![3]);
+    let failed = failed_conditions(&t.a, &t.b, 4);
+    assert!(failed[0].starts_with("sum b c = 1/2"), "{failed:?}");
+    let sum_bc = dot(&t.b, &mat(&t.a, &[1.0; 4]));
+    assert!((sum_bc - (0.5 - 1.0 / 300.0)).abs() < 1e-15, "{sum_bc}");
+    assert!(failed_conditions(&t.a, &t.b, 1).is_empty());
+}
+
+#[test]
+fn planted_wrong_time_has_correct_a_and_b_but_a_wrong_node() {
+    // The stage matrix and weights are RK4's, so the conditions (which take
+    // c = A 1) all hold; only the stored node c3 disagrees with its row sum.
+    let t = Rk4WrongTimeTableau::TABLEAU;
+    assert!(failed_conditions(&t.a, &t.b, 4).is_empty());
+    assert_eq!(bad_row_sums(&t), vec![3]);
+    // With the stored nodes, the quadrature condition sum b c = 1/2 fails:
+    // 1/3 * 0.5 + 1/3 * 0 + 1/6 * 1 = 1/3.
+    assert!((dot(&t.b, &t.c) - 1.0 / 3.0).abs() < 1e-15);
+}
+
+// ---------------------------------------------------------------------------
+// Test problems, each with its exact solution.
+
+/// y' = y, y = exp(t).
+struct Growth;
+impl Rhs for Growth {
+    fn dim(&self) -> usize {
+        1
+    }
+    fn rhs(&self, _t: f64, y: &[f64], dydt: &mut [f64]) {
+        dydt[0] = y[0];
+    }
+}
+
+/// y' = cos(t) y, y(0) = 1, y = exp(sin t) (separation of variables;
+/// non-autonomous, so it sees the stage times).
+struct CosGrowth;
+impl Rhs for CosGrowth {
+    fn dim(&self) -> usize {
+        1
+    }
+    fn rhs(&self, t: f64, y: &[f64], dydt: &mut [f64]) {
+        dydt[0] = t.cos() * y[0];
+    }
+}
+
+/// Harmonic oscillator q'' = -q in two dimensions.
+struct Spring;
+impl Accel for Spring {
+    fn dim(&self) -> usize {
+        2
+    }
+    fn accel(&self, _t: f64, q: &[f64], a: &mut [f64]) {
+        a[0] = -q[0];
+        a[1] = -q[1];
+    }
+}
+
+/// Driven oscillator x'' + x = cos(2 t), x(0) = 1, x'(0) = 0 (Taylor,
+/// Classical Mechanics, 5.5, with w0 = 1, W = 2, F = 1, so F/(w0^2 - W^2)
+/// = -1/3): x = (4/3) cos t - cos(2 t)/3, v = -(4/3) sin t + (2/3) sin(2 t).
+struct Driven;
+impl Accel for Driven {
+    fn dim(&self) -> usize {
+        1
+    }
+    fn accel(&self, t: f64, q: &[f64], a: &mut [f64]) {
+        a[0] = -q[0] + (2.0 * t).cos();
+    }
+}
+
+fn driven_exact(t: f64) -> (f64, f64) {
+    (
+        4.0 / 3.0 * t.cos() - (2.0 * t).cos() / 3.0,
+        -4.0 / 3.0 * t.sin() + 2.0 / 3.0 * (2.0 * t).sin(),
+    )
+}
+
+/// Error of `n` fixed steps of `stepper` for a scalar problem from
+/// `(0, 1)` to `t1`, against `exact`. Times t_i = i h (integer counting).
+fn scalar_error<S: Stepper + Default>(f: &impl Rhs, t1: f64, exact: f64, n: u64) -> f64 {
+    let mut s = S::default();
+    let mut y = [1.0];
+    let h = t1 / n as f64;
+    for i in 0..n {
+        s.step(f, i as f64 * h, &mut y, h);
+    }
+    (y[0] - exact).abs()
+}
+
+/// Error ratio err(n) / err(2 n): about 2^p for a method of order p.
+fn ratio<S: Stepper + Default>(f: &impl Rhs, t1: f64, exact: f64, n: u64) -> f64 {
+    scalar_error::<S>(f, t1, exact, n) / scalar_error::<S>(f, t1, exact, 2 * n)
+}
+
+/// Error of `n` fixed split steps on the driven oscillator over [0, t1].
+fn driven_error<S: SplitStepper + Default>(t1: f64, n: u64) -> f64 {
+    let mut s = S::default();
+    let (mut q, mut v) = ([1.0], [0.0]);
+    let h = t1 / n as f64;
+    for i in 0..n {
+        s.step(&Driven, i as f64 * h, &mut q, &mut v, h);
+    }
+    let (qe, ve) = driven_exact(t1);
+    (q[0] - qe).abs().max((v[0] - ve).abs())
+}
+
+/// `ratio` lies within a factor 1.25 of 2^p: the band is common practice,
+/// no source (asymptotic ratios at these step counts are within a few
+/// percent of 2^p; the band leaves room for the next error term).
+fn assert_order(what: &str, ratio: f64, p: i32) {
+    let ideal = 2f64.powi(p);
+    assert!(
+        ratio > ideal / 1.25 && ratio < ideal * 1.25,
+        "{what}: error ratio {ratio} when the steps double, expected about {ideal} (order {p})"
+    );
+}
+
+// ---------------------------------------------------------------------------
+// Direct checks.
+
+#[test]
+fn rk4_step_of_growth_is_the_taylor_polynomial() {
+    // RK4's stability function is R(z) = 1 + z + z^2/2 + z^3/6 + z^4/24
+    // (HNW II, section IV.2): one step of y' = y from
+    // y = 1 gives exactly R(h) in exact arithmetic; in f64 a few ulp.
+    let h: f64 = 0.1;
+    let taylor = 1.0 + h + h * h / 2.0 + h.powi(3) / 6.0 + h.powi(4) / 24.0;
+    let mut y = [1.0];
+    Rk4::default().step(&Growth, 0.0, &mut y, h);
+    assert!(
+        common::ulps_rel(y[0], taylor) <= 4.0,
+        "{} vs {taylor}",
+        y[0]
+    );
+    // And it is not e^h: the next Taylor term h^5/120 = 8.3e-8 is missing.
+    assert!((y[0] - h.exp() + h.powi(5) / 120.0).abs() < 2e-9);
+}
+
+#[test]
+fn split_steppers_are_reversible_to_roundoff() {
+    // Stormer-Verlet and its symmetric compositions are symmetric methods:
+    // the step with -h inverts the step with h (Hairer, Lubich and Wanner,
+    // Geometric Numerical Integration, V.1 and II.4). In f64 the state comes
+    // back to a few ulp (a bound of 8 ulp: common practice, no source).
+    fn back_and_forth<S: SplitStepper + Default>(name: &str, steps: usize) {
+        let (q0, v0) = ([1.0, 0.3], [0.0, -0.5]);
+        let (mut q, mut v) = (q0, v0);
+        let mut s = S::default();
+        let h = 0.1;
+        for i in 0..steps {
+            s.step(&Spring, i as f64 * h, &mut q, &mut v, h);
+        }
+        for i in (1..=steps).rev() {
+            s.step(&Spring, i as f64 * h, &mut q, &mut v, -h);
+        }
+        for (a, b) in q.iter().chain(&v).zip(q0.iter().chain(&v0)) {
+            let ulps = (a - b).abs() / f64::EPSILON;
+            assert!(
+                ulps <= 8.0 * steps as f64,
+                "{name}: {a} vs {b} ({ulps} ulp of 1)"
+            );
+        }
+    }
+    back_and_forth::<Leapfrog>("leapfrog", 1);
+    back_and_forth::<Leapfrog>("leapfrog", 10);
+    back_and_forth::<TripleJump>("triple jump", 1);
+}
+
+#[test]
+fn split_steppers_move_the_state() {
+    // One step of h = 0.1 on the oscillator from q = 1, v = 0 moves q to
+    // about cos(0.1) (so the reversibility test above compares a real round
+    // trip): leapfrog gives 1 - h^2/2 exactly in exact arithmetic.
+    let (mut q, mut v) = ([1.0, 0.0], [0.0, 0.0]);
+    Leapfrog::default().step(&Spring, 0.0, &mut q, &mut v, 0.1);
+    assert!((q[0] - (1.0 - 0.005)).abs() < 1e-15);
+    assert!((v[0] - -(0.1 - 0.1f64.powi(3) / 4.0)).abs() < 1e-15);
+}
+
+#[test]
+fn triple_jump_weights_satisfy_yoshidas_conditions() {
+    // Yoshida, Phys. Lett. A 150 (1990) 262: 2 w1 + w0 = 1 (consistency)
+    // and 2 w1^3 + w0^3 = 0 (third-order error term cancels).
+    let (w0, w1) = TripleJump::weights();
+    assert!((2.0 * w1 + w0 - 1.0).abs() < 4.0 * f64::EPSILON);
+    assert!((2.0 * w1.powi(3) + w0.powi(3)).abs() < 32.0 * f64::EPSILON);
+    // Published decimal values (Yoshida 1990, from memory):
+    // w1 = 1.3512071919596578, w0 = -1.7024143839193153.
+    assert!((w1 - 1.351_207_191_959_657_8).abs() < 1e-15);
+    assert!((w0 + 1.702_414_383_919_315_3).abs() < 1e-15);
+}
+
+// ---------------------------------------------------------------------------
+// Measured orders, correct and planted.
+
+#[test]
+fn explicit_runge_kutta_orders_on_the_fixed_ladder() {
+    let e = 1f64.exp();
+    let es = 2f64.sin().exp();
+    // Orders from HNW I, II.1; on y' = y over [0, 1] and the non-autonomous
+    // y' = cos(t) y over [0, 2].
+    assert_order("Euler", ratio::<Euler>(&Growth, 1.0, e, 256), 1);
+    assert_order("Heun", ratio::<Heun>(&Growth, 1.0, e, 64), 2);
+    assert_order("midpoint", ratio::<Midpoint>(&Growth, 1.0, e, 64), 2);
+    assert_order("RK4", ratio::<Rk4>(&Growth, 1.0, e, 16), 4);
+    assert_order("Euler, cos", ratio::<Euler>(&CosGrowth, 2.0, es, 256), 1);
+    assert_order("Heun, cos", ratio::<Heun>(&CosGrowth, 2.0, es, 64), 2);
+    assert_order(
+        "midpoint, cos",
+        ratio::<Midpoint>(&CosGrowth, 2.0, es, 64),
+        2,
+    );
+    assert_order("RK4, cos", ratio::<Rk4>(&CosGrowth, 2.0, es, 32), 4);
+}
+
+#[test]
+fn planted_bugs_show_the_order_or_floor_they_claim() {
+    let e = 1f64.exp();
+    let es = 2f64.sin().exp();
+    // Wrong a32: order 1 on every problem (see Rk4WrongCoefTableau).
+    assert_order(
+        "Rk4WrongCoef",
+        ratio::<Rk4WrongCoef>(&Growth, 1.0, e, 64),
+        1,
+    );
+    assert_order(
+        "Rk4WrongCoef, cos",
+        ratio::<Rk4WrongCoef>(&CosGrowth, 2.0, es, 64),
+        1,
+    );
+    // Wrong c3: invisible on an autonomous problem, order 1 otherwise.
+    assert_order(
+        "Rk4WrongTime",
+        ratio::<Rk4WrongTime>(&Growth, 1.0, e, 16),
+        4,
+    );
+    assert_order(
+        "Rk4WrongTime, cos",
+        ratio::<Rk4WrongTime>(&CosGrowth, 2.0, es, 64),
+        1,
+    );
+    // Stages through f32: the error stalls between 1e-12 and 1e-8 (relative)
+    // for 500 to 8000 steps, while the correct RK4 goes below 1e-13 at 2000
+    // steps. The bounds bracket generously the random-walk estimate
+    // 6e-8 sqrt(h) of the Rk4F32 comment (3e-9 to 7e-10 here).
+    for n in [500, 1000, 2000, 4000, 8000] {
+        let floor = scalar_error::<Rk4F32>(&Growth, 1.0, e, n) / e;
+        assert!(
+            floor > 1e-12 && floor < 1e-8,
+            "f32 stages, {n} steps: {floor:e}"
+        );
+    }
+    let good = scalar_error::<Rk4>(&Growth, 1.0, e, 2000) / e;
+    assert!(good < 1e-13, "RK4 at 2000 steps {good:e}");
+    // Still fourth order while far above the floor.
+    assert_order("Rk4F32, coarse", ratio::<Rk4F32>(&Growth, 1.0, e, 4), 4);
+}
+
+#[test]
+fn split_stepper_orders_on_the_driven_oscillator() {
+    // Stormer-Verlet order 2, triple jump order 4 (Yoshida 1990), measured
+    // on a non-autonomous force so the substep times matter.
+    let t1 = 5.0;
+    let r2 = driven_error::<Leapfrog>(t1, 200) / driven_error::<Leapfrog>(t1, 400);
+    assert_order("leapfrog", r2, 2);
+    let r4 = driven_error::<TripleJump>(t1, 100) / driven_error::<TripleJump>(t1, 200);
+    assert_order("triple jump", r4, 4);
+}
+
+// ---------------------------------------------------------------------------
+// Dormand-Prince as an Integrator.
+
+/// Wraps a right-hand side and records the evaluations and the latest time
+/// at which it was evaluated (in the direction of integration).
+struct Recording<F> {
+    f: F,
+    evals: Cell<u64>,
+    times: Cell<(f64, f64)>,
+}
+
+impl<F> Recording<F> {
+    fn new(f: F) -> Self {
+        Recording {
+            f,
+            evals: Cell::new(0),
+            times: Cell::new((f64::INFINITY, f64::NEG_INFINITY)),
+        }
+    }
+}
+
+impl<F: Rhs> Rhs for Recording<F> {
+    fn dim(&self) -> usize {
+        self.f.dim()
+    }
+    fn rhs(&self, t: f64, y: &[f64], dydt: &mut [f64]) {
+        self.evals.set(self.evals.get() + 1);
+        let (lo, hi) = self.times.get();
+        self.times.set((lo.min(t), hi.max(t)));
+        self.f.rhs(t, y, dydt);
+    }
+}
+
+#[test]
+fn dormand_prince_meets_tolerance_and_lands_on_t1() {
+    let f = Recording::new(Growth);
+    let mut y = [1.0];
+    let tol = Control::Tolerance {
+        rtol: 1e-10,
+        atol: 1e-10,
+    };
+    let counts = DormandPrince::default()
+        .integrate(&f, 0.0, 1.0, &mut y, tol)
+        .unwrap();
+    // True error against e: common practice (no source) is that the global
+    // error of a well-behaved problem over a unit interval stays within about
+    // 10 times the requested local tolerance; here |y - e| / e <= 1e-9.
+    let err = (y[0] - 1f64.exp()).abs() / 1f64.exp();
+    assert!(err <= 1e-9, "relative error {err:e}");
+    assert!(counts.steps > 10 && counts.steps < 200, "{counts:?}");
+    // No stage is evaluated beyond t1, and the last evaluation (FSAL, at the
+    // end of the last step) is exactly at t1.
+    assert_eq!(f.times.get(), (0.0, 1.0));
+    // FSAL cost: 1 for k1, 1 for the starting-step guess, 6 per attempt.
+    assert_eq!(f.evals.get(), 2 + 6 * (counts.steps + counts.rejected));
+}
+
+#[test]
+fn dormand_prince_lands_on_an_awkward_end_and_runs_backward() {
+    // t1 = 0.3 is not a binary fraction; the last step is shortened so that
+    // t reaches it exactly.
+    let f = Recording::new(CosGrowth);
+    let mut y = [1.0];
+    let tol = Control::Tolerance {
+        rtol: 1e-8,
+        atol: 1e-8,
+    };
+    DormandPrince::default()
+        .integrate(&f, 0.0, 0.3, &mut y, tol)
+        .unwrap();
+    assert_eq!(f.times.get(), (0.0, 0.3));
+    assert!((y[0] - 0.3f64.sin().exp()).abs() < 1e-7);
+    // Backward from t = 1 (y = e) to 0 (y = 1).
+    let f = Recording::new(Growth);
+    let mut y = [1f64.exp()];
+    let counts = DormandPrince::default()
+        .integrate(&f, 1.0, 0.0, &mut y, tol)
+        .unwrap();
+    assert_eq!(f.times.get(), (0.0, 1.0));
+    assert!((y[0] - 1.0).abs() < 1e-7, "{} {counts:?}", y[0]);
+}
+
+#[test]
+fn dormand_prince_counts_rejected_steps() {
+    // A mildly stiff relaxation y' = -50 (y - cos t): over a long interval
+    // the controller runs into the explicit stability bound (about
+    // h = 3.3/50 for Dormand-Prince, from memory; HNW II, IV.2) and must
+    // reject steps. The counts report them, and the answer still meets a
+    // loose bound.
+    struct Relax;
+    impl Rhs for Relax {
+        fn dim(&self) -> usize {
+            1
+        }
+        fn rhs(&self, t: f64, y: &[f64], dydt: &mut [f64]) {
+            dydt[0] = -50.0 * (y[0] - t.cos());
+        }
+    }
+    let mut y = [0.0];
+    let tol = Control::Tolerance {
+        rtol: 1e-6,
+        atol: 1e-6,
+    };
+    let counts = DormandPrince::default()
+        .integrate(&Relax, 0.0, 10.0, &mut y, tol)
+        .unwrap();
+    assert!(counts.rejected > 0, "{counts:?}");
+    // Exact solution of y' = -k (y - cos t), y(0) = 0 (linear first-order
+    // ODE, integrating factor): y = k (k cos t + sin t - k e^{-k t}) / (k^2 + 1).
+    let k = 50.0f64;
+    let exact = k * (k * 10f64.cos() + 10f64.sin() - k * (-k * 10.0).exp()) / (k * k + 1.0);
+    assert!((y[0] - exact).abs() < 1e-5, "{} vs {exact}", y[0]);
+}
+
+#[test]
+fn dormand_prince_fixed_steps_are_fifth_order() {
+    // Control::Steps(n) uses the 5th-order weights (Dormand and Prince
+    // 1980): the error ratio is about 2^5 = 32 when n doubles.
+    let err = |n: u64| {
+        let f = Recording::new(CosGrowth);
+        let mut y = [1.0];
+        let counts = DormandPrince::default()
+            .integrate(&f, 0.0, 2.0, &mut y, Control::Steps(n))
+            .unwrap();
+        assert_eq!((counts.steps, counts.rejected), (n, 0));
+        // FSAL: 1 evaluation for k1, then 6 per step; the last one at t1.
+        assert_eq!(f.evals.get(), 1 + 6 * n);
+        assert_eq!(f.times.get().1, 2.0);
+        (y[0] - 2f64.sin().exp()).abs()
+    };
+    let (e16, e32, e64) = (err(16), err(32), err(64));
+    assert_order("Dormand-Prince, Steps 16 -> 32", e16 / e32, 5);
+    assert_order("Dormand-Prince, Steps 32 -> 64", e32 / e64, 5);
+}
+
+#[test]
+fn dormand_prince_fails_with_the_time_reached() {
+    // Too few step attempts allowed: Failed, at a time inside (t0, t1).
+    let mut y = [1.0];
+    let tol = Control::Tolerance {
+        rtol: 1e-12,
+        atol: 1e-12,
+    };
+    match DormandPrince::with_max_steps(5).integrate(&Growth, 0.0, 1.0, &mut y, tol) {
+        Err(IntegrateError::Failed { t, .. }) => assert!(t > 0.0 && t < 1.0, "{t}"),
+        other => panic!("expected Failed, got {other:?}"),
+    }
+    // y' = y^2, y(0) = 1 blows up at t = 1 (y = 1/(1 - t)): the step size
+    // collapses there and the integrator reports a failure near 1.
+    struct Blowup;
+    impl Rhs for Blowup {
+        fn dim(&self) -> usize {
+            1
+        }
+        fn rhs(&self, _t: f64, y: &[f64], dydt: &mut [f64]) {
+            dydt[0] = y[0] * y[0];
+        }
+    }
+    let mut y = [1.0];
+    let tol = Control::Tolerance {
+        rtol: 1e-8,
+        atol: 1e-8,
+    };
+    match DormandPrince::default().integrate(&Blowup, 0.0, 2.0, &mut y, tol) {
+        Err(IntegrateError::Failed { t, reason }) => {
+            // The numerical blow-up sits within the tolerance of t = 1.
+            assert!((t - 1.0).abs() < 1e-6, "failed at {t}: {reason}")
+        }
+        other => panic!("expected Failed, got {other:?}"),
+    }
+}
+
+#[test]
+fn dormand_prince_refuses_meaningless_tolerances() {
+    let mut y = [1.0];
+    let bad = Control::Tolerance {
+        rtol: 0.0,
+        atol: 0.0,
+    };
+    let r = DormandPrince::default().integrate(&Growth, 0.0, 1.0, &mut y, bad);
+    assert_eq!(r, Err(IntegrateError::Unsupported(bad)));
+    assert_eq!(y[0], 1.0);
+}
