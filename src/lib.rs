@@ -1,6 +1,7 @@
 //! cargo-drift: guards time-stepping code against silent loss of accuracy.
 #![warn(missing_docs)]
 
+pub mod claims;
 pub mod measure;
 pub mod metrics;
 pub mod problem;

@@ -120,7 +120,7 @@ fn is_explicit<const S: usize>(t: &Tableau<S>) -> bool {
     (0..S).all(|i| (i..S).all(|j| t.a[i][j] == 0.0))
 }
 
-fn check_tableau<const S: usize, M: Method<S>>(name: &str) {
+fn check_tableau<const S: usize, M: Coefficients<S>>(name: &str) {
     let t = M::TABLEAU;
     assert!(is_explicit(&t), "{name}: not explicit");
     assert_eq!(

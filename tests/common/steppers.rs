@@ -32,7 +32,7 @@ pub struct Tableau<const S: usize> {
 
 /// A type that names a tableau, so the engine is monomorphised over the
 /// coefficients and the compiler sees them as constants.
-pub trait Method<const S: usize> {
+pub trait Coefficients<const S: usize> {
     /// The coefficients.
     const TABLEAU: Tableau<S>;
 }
@@ -89,7 +89,7 @@ impl<const S: usize, M, R> Default for ExplicitRk<S, M, R> {
     }
 }
 
-impl<const S: usize, M: Method<S>, R: StageRounding> ExplicitRk<S, M, R> {
+impl<const S: usize, M: Coefficients<S>, R: StageRounding> ExplicitRk<S, M, R> {
     /// Sizes the scratch buffers for states of length `n` (allocates only
     /// when `n` changes).
     fn ensure(&mut self, n: usize) {
@@ -162,7 +162,7 @@ impl<const S: usize, M: Method<S>, R: StageRounding> ExplicitRk<S, M, R> {
     }
 }
 
-impl<const S: usize, M: Method<S>, R: StageRounding> Stepper for ExplicitRk<S, M, R> {
+impl<const S: usize, M: Coefficients<S>, R: StageRounding> Stepper for ExplicitRk<S, M, R> {
     fn step<F: Rhs + ?Sized>(&mut self, f: &F, t: f64, y: &mut [f64], h: f64) {
         self.ensure(y.len());
         self.stages(f, t, y, h, 0);
@@ -172,7 +172,7 @@ impl<const S: usize, M: Method<S>, R: StageRounding> Stepper for ExplicitRk<S, M
 
 /// Explicit Euler (Hairer, Norsett and Wanner I, section II.1), order 1.
 pub struct EulerTableau;
-impl Method<1> for EulerTableau {
+impl Coefficients<1> for EulerTableau {
     const TABLEAU: Tableau<1> = Tableau {
         a: [[0.0]],
         b: [1.0],
@@ -186,7 +186,7 @@ pub type Euler = ExplicitRk<1, EulerTableau>;
 /// Heun's method, the explicit trapezoidal rule (Hairer, Norsett and Wanner I,
 /// section II.1, (1.6)), order 2.
 pub struct HeunTableau;
-impl Method<2> for HeunTableau {
+impl Coefficients<2> for HeunTableau {
     const TABLEAU: Tableau<2> = Tableau {
         a: [[0.0, 0.0], [1.0, 0.0]],
         b: [0.5, 0.5],
@@ -200,7 +200,7 @@ pub type Heun = ExplicitRk<2, HeunTableau>;
 /// Explicit midpoint rule, Runge's method (Hairer, Norsett and Wanner I,
 /// section II.1, (1.5)), order 2.
 pub struct MidpointTableau;
-impl Method<2> for MidpointTableau {
+impl Coefficients<2> for MidpointTableau {
     const TABLEAU: Tableau<2> = Tableau {
         a: [[0.0, 0.0], [0.5, 0.0]],
         b: [0.0, 1.0],
@@ -214,7 +214,7 @@ pub type Midpoint = ExplicitRk<2, MidpointTableau>;
 /// The classical Runge-Kutta method (Kutta 1901; Hairer, Norsett and Wanner
 /// I, section II.1, Table 1.2 left), order 4.
 pub struct Rk4Tableau;
-impl Method<4> for Rk4Tableau {
+impl Coefficients<4> for Rk4Tableau {
     const TABLEAU: Tableau<4> = RK4;
 }
 const RK4: Tableau<4> = Tableau {
@@ -245,7 +245,7 @@ pub type Rk4 = ExplicitRk<4, Rk4Tableau>;
 /// problem the stage time `c3 = 0.5` no longer matches the row sum either,
 /// which also breaks the condition `c = A 1`; still order 1.
 pub struct Rk4WrongCoefTableau;
-impl Method<4> for Rk4WrongCoefTableau {
+impl Coefficients<4> for Rk4WrongCoefTableau {
     const TABLEAU: Tableau<4> = {
         let mut t = RK4;
         t.a[2][1] = 0.49;
@@ -267,7 +267,7 @@ pub type Rk4WrongCoef = ExplicitRk<4, Rk4WrongCoefTableau>;
 /// is O(h). (Any single wrong node of RK4 does this, because every `b_i` is
 /// nonzero.)
 pub struct Rk4WrongTimeTableau;
-impl Method<4> for Rk4WrongTimeTableau {
+impl Coefficients<4> for Rk4WrongTimeTableau {
     const TABLEAU: Tableau<4> = {
         let mut t = RK4;
         t.c[2] = 0.0;
@@ -295,7 +295,7 @@ pub type Rk4F32 = ExplicitRk<4, Rk4Tableau, ThroughF32>;
 /// [`DORMAND_PRINCE_B_HAT`]. Verified by the order conditions in
 /// tests/steppers.rs.
 pub struct DormandPrinceTableau;
-impl Method<7> for DormandPrinceTableau {
+impl Coefficients<7> for DormandPrinceTableau {
     const TABLEAU: Tableau<7> = Tableau {
         a: [
             [0.0; 7],
