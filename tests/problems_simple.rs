@@ -561,6 +561,10 @@ fn invalid_parameters_are_rejected_by_name() {
     expect_param(LotkaVolterra::new(1.0, 2.0, -1.0, 2.0), "u0");
     expect_param(LotkaVolterra::new(1.0, 2.0, 2.0, 0.0), "v0");
     expect_param(LotkaVolterra::new(1.0, 2.0, 1.0, 2.0), "v0");
+    // An orbit too large for the period quadrature names the population
+    // responsible.
+    expect_param(LotkaVolterra::new(1.0, 2.0, 2.0, 1e15), "v0");
+    expect_param(LotkaVolterra::new(1.0, 2.0, 1e15, 2.0), "u0");
     // Edges that are allowed.
     assert!(Damped::new(1.0, 0.0, 1.0, 0.0).is_ok());
     assert!(Driven::new(1.0, 0.0, 1.0, 0.0, 0.0).is_ok());

@@ -7,6 +7,11 @@ use super::{check_param, ParamError, Problem};
 use crate::stepper::Rhs;
 
 /// Which closed form applies, by the sign of `gamma^2 - omega0^2`.
+///
+/// ```
+/// use drift::problem::damped::{Damped, Regime};
+/// assert_eq!(Damped::new(2.0, 2.0 * (1.0 + 1e-12), 1.0, 0.0).unwrap().regime(), Regime::Over);
+/// ```
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Regime {
     /// `gamma < omega0`: decaying oscillation at `omega_d = sqrt(omega0^2 - gamma^2)`.

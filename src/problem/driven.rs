@@ -13,7 +13,8 @@ use crate::stepper::Rhs;
 /// wrong times loses order here while it may pass every autonomous problem.
 /// The force does not depend on the velocity: [`Problem::accel`] is provided.
 ///
-/// Exact solution (Taylor, Classical Mechanics, 5.5; REFERENCES.md):
+/// Exact solution (Taylor, Classical Mechanics, 5.5, with no damping;
+/// REFERENCES.md):
 /// `x = x0 cos(omega0 t) + (v0/omega0) sin(omega0 t) + F P(t)` with the
 /// response from rest
 /// `P = (cos(W t) - cos(omega0 t)) / (omega0^2 - W^2)`, which at resonance

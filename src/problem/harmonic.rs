@@ -67,7 +67,8 @@ pub(crate) fn turn(rate: (f64, f64), t: f64) -> Turn {
     let sin = sp + e * cp;
     let cos = cp - e * sp;
     let sin_over_rate = if p.abs() < SINC_SERIES_BELOW {
-        // sinc(x) = 1 - x^2/3! + x^4/5! - x^6/7! + ... (A&S 4.3.65).
+        // sinc(x) = 1 - x^2/3! + x^4/5! - x^6/7! + ..., from the series
+        // of sin (A&S 4.3.65).
         let x2 = p * p;
         t * (1.0 - x2 / 6.0 * (1.0 - x2 / 20.0 * (1.0 - x2 / 42.0)))
     } else {

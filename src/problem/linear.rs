@@ -8,8 +8,8 @@ use crate::stepper::Rhs;
 /// The linear test equation `y' = lambda y`, `lambda = re + i im`, written
 /// for the state `[Re y, Im y]`:
 /// `(Re y)' = re Re y - im Im y`, `(Im y)' = im Re y + re Im y`
-/// (Dahlquist's test equation; Hairer and Wanner, Solving Ordinary
-/// Differential Equations II, IV.2).
+/// (Dahlquist's test equation, BIT 3 (1963) 27; Hairer and Wanner, Solving
+/// Ordinary Differential Equations II, IV.2).
 ///
 /// Exact solution `y = exp(lambda t) y0`: `exp(re t) (cos(im t) + i sin(im t)) y0`,
 /// exponent and phase carried in two doubles. Time unit `2 pi / |lambda|`

@@ -21,7 +21,9 @@ use crate::stepper::Rhs;
 /// Hamiltonian with the separable `K = a g(p) + b g(q)`, `g(x) = e^x - 1 - x`.
 /// Writing `a g(p) = s^2`, `b g(q) = r^2` (signs of `p`, `q`) maps each orbit
 /// onto the circle `s^2 + r^2 = R^2`, and the period is the derivative of the
-/// enclosed area with respect to `K`,
+/// enclosed area with respect to `K` (the area-period relation of one
+/// degree of freedom, e.g. Arnold, Mathematical Methods of Classical
+/// Mechanics, section 50, from memory),
 /// `T = 1/(2 sqrt(a b)) * integral over 0..2 pi of X(R cos(phi)/sqrt(a)) X(R sin(phi)/sqrt(b)) dphi`,
 /// `X(w) = dx/dw` on `g(x) = w^2` (`X(w) = 2 w / expm1(x)`, `X(0) = sqrt 2`).
 /// The integrand is smooth and periodic, so the trapezoidal rule converges
@@ -29,7 +31,10 @@ use crate::stepper::Rhs;
 /// are doubled until two estimates agree to 1e-13 (the error of the last one
 /// is then far smaller). As `R -> 0` this gives `2 pi / sqrt(a b)`, the
 /// linearised period about the equilibrium. [`Problem::time_unit`] is this
-/// period.
+/// period. Very large orbits make the integrand sharply peaked: the
+/// constructor resolves orbits whose populations reach about 1e10 times the
+/// equilibrium (small populations down to 1e-100 and below are fine) and
+/// rejects larger ones.
 ///
 /// ```
 /// use drift::Problem;
@@ -89,7 +94,7 @@ fn inverse_excess(w: f64) -> (f64, f64) {
     };
     for _ in 0..100 {
         let g = excess(x);
-        let phi = g.sqrt().copysign(x);
+        let phi = g.max(0.0).sqrt().copysign(x);
         let d = x.exp_m1();
         if d == 0.0 || phi == 0.0 {
             // x underflowed to 0: the root is x = sqrt(2) w to first order.
@@ -144,7 +149,8 @@ fn period_quadrature(a: f64, b: f64, radius: f64) -> Option<f64> {
 
 impl LotkaVolterra {
     /// Rates `a > 0`, `b > 0` (the equilibrium is `(a, b)`) and initial
-    /// populations `u0 > 0`, `v0 > 0`, not at the equilibrium.
+    /// populations `u0 > 0`, `v0 > 0`, not at the equilibrium (and not on an
+    /// orbit too large for the period quadrature, see [`LotkaVolterra`]).
     ///
     /// ```
     /// use drift::problem::lotka_volterra::LotkaVolterra;
@@ -169,11 +175,18 @@ impl LotkaVolterra {
         let radius = (a * excess((u0 / a).ln()) + b * excess((v0 / b).ln())).sqrt();
         let ok = radius > 0.0 && radius.is_finite();
         check_param(P, "u0", u0, ok, "(u0, v0) resolvably away from (a, b)")?;
+        // Blame the population farther (in log) from its equilibrium value.
+        let (parameter, value) = if (u0 / a).ln().abs() >= (v0 / b).ln().abs() {
+            ("u0", u0)
+        } else {
+            ("v0", v0)
+        };
         let period = period_quadrature(a, b, radius).ok_or(ParamError {
             problem: P,
-            parameter: "u0",
-            value: u0,
-            allowed: "an orbit whose period the quadrature resolves",
+            parameter,
+            value,
+            allowed: "an orbit whose period the quadrature resolves \
+                      (populations up to about 1e10 times the equilibrium)",
         })?;
         let scale = (a * u0.ln()).abs() + u0 + (b * v0.ln()).abs() + v0;
         Ok(LotkaVolterra {
@@ -229,6 +242,7 @@ impl Problem for LotkaVolterra {
     fn invariants(&self) -> &[Invariant] {
         &self.invariants
     }
+    /// NaN for a non-positive population (only a failing stepper produces one).
     fn invariant_values(&self, _t: f64, y: &[f64], out: &mut [f64]) {
         out[0] = self.a * y[0].ln() - y[0] + self.b * y[1].ln() - y[1];
     }

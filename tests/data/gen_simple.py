@@ -1,7 +1,8 @@
 #!/usr/bin/env python3
 """Generates tests/data/simple_table.txt: reference states of the harmonic,
 damped, driven and linear problems, and periods of Lotka-Volterra orbits,
-computed with mpmath at 60 significant digits.
+computed with mpmath at 60 significant digits (30 for the Lotka-Volterra
+periods and the mp.odefun cross-checks).
 
 Every parameter and time is a double (Python float), converted exactly to
 mpmath, and written with repr(), so the Rust test reads back the very same
