@@ -37,7 +37,8 @@ pub enum Ladder {
         budget: u64,
     },
     /// For integrators: adaptive runs at these tolerances (relative and
-    /// absolute alike), coarse to fine.
+    /// absolute alike), coarse to fine. Each rung is one call over the whole
+    /// horizon, and its error is read at the end.
     Tolerances(Vec<f64>),
 }
 
@@ -52,7 +53,7 @@ impl Default for Ladder {
 }
 
 impl Ladder {
-    /// The default tolerance ladder for integrators: 1e-3 down to 1e-12 by
+    /// The default tolerance ladder for integrators: 1e-4 down to 1e-13 by
     /// decades.
     ///
     /// ```
@@ -60,7 +61,7 @@ impl Ladder {
     /// assert_eq!(t.len(), 10);
     /// ```
     pub fn default_tolerances() -> Ladder {
-        Ladder::Tolerances((3..=12).map(|k| 10f64.powi(-k)).collect())
+        Ladder::Tolerances((4..=13).map(|k| 10f64.powi(-k)).collect())
     }
 }
 

@@ -17,6 +17,7 @@ pub mod linear;
 pub mod lotka_volterra;
 pub mod pendulum;
 pub mod power_law;
+pub mod registry;
 
 /// A named conserved quantity of a problem, with the scale its error is
 /// measured against (relative error = |I(t) - I(0)| / scale).
