@@ -113,6 +113,70 @@ pub fn fit_line(x: &[f64], y: &[f64]) -> Option<Line> {
     })
 }
 
+/// Least-squares fit of `y = p x + b + c 10^(-x)`, returning `(p, rms
+/// residual)`: the order with the leading correction of the error expansion
+/// taken out. With `x = log10(N)` the last term is `c h` for step size
+/// `h ~ 1/N`: an error `C h^p (1 + a h + ...)` has digits
+/// `p log10 N - log10 C - a h / ln 10 + ...`, so the fitted `p` is the
+/// asymptotic order rather than an average of the pre-asymptotic local
+/// slopes (Richardson's idea applied to the order estimate). `None` with
+/// fewer than four points or a singular system.
+///
+/// ```
+/// // digits of e = h^4 (1 + 3 h) at N = 8 .. 256
+/// let x: Vec<f64> = (3..9).map(|k| (2f64.powi(k)).log10()).collect();
+/// let y: Vec<f64> = x.iter().map(|x| { let h = 10f64.powf(-x); -(h.powi(4) * (1.0 + 3.0 * h)).log10() }).collect();
+/// let (p, _) = drift::metrics::fit_with_correction(&x, &y).unwrap();
+/// assert!((p - 4.0).abs() < 0.01, "{p}");
+/// assert!((drift::metrics::fit_line(&x, &y).unwrap().slope - 4.0).abs() > 0.05);
+/// ```
+pub fn fit_with_correction(x: &[f64], y: &[f64]) -> Option<(f64, f64)> {
+    let n = x.len().min(y.len());
+    if n < 4 {
+        return None;
+    }
+    // Normal equations of the three basis functions x, 1, 10^-x.
+    let basis = |xi: f64| [xi, 1.0, 10f64.powf(-xi)];
+    let mut a = [[0.0f64; 4]; 3];
+    for i in 0..n {
+        let f = basis(x[i]);
+        for r in 0..3 {
+            for c in 0..3 {
+                a[r][c] += f[r] * f[c];
+            }
+            a[r][3] += f[r] * y[i];
+        }
+    }
+    // Gaussian elimination with partial pivoting on the 3 x 4 system.
+    for col in 0..3 {
+        let piv = (col..3).max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs()))?;
+        a.swap(col, piv);
+        let d = a[col][col];
+        if d.abs() < 1e-300 || !d.is_finite() {
+            return None;
+        }
+        for r in 0..3 {
+            if r != col {
+                let m = a[r][col] / d;
+                for c in col..4 {
+                    a[r][c] -= m * a[col][c];
+                }
+            }
+        }
+    }
+    let coef: Vec<f64> = (0..3).map(|r| a[r][3] / a[r][r]).collect();
+    if coef.iter().any(|c| !c.is_finite()) {
+        return None;
+    }
+    let ss: f64 = (0..n)
+        .map(|i| {
+            let f = basis(x[i]);
+            (y[i] - coef[0] * f[0] - coef[1] * f[1] - coef[2] * f[2]).powi(2)
+        })
+        .sum();
+    Some((coef[0], (ss / n as f64).sqrt()))
+}
+
 /// How one rung of a ladder was read.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum RungClass {
@@ -183,7 +247,9 @@ pub struct SeriesAnalysis {
 /// level are left out too. A plateau stays in the fit, so a consistency
 /// error pulls the order towards 0. The fit then trims its end points (the
 /// coarse end first) while its residual exceeds [`FIT_RESIDUAL_GOAL`] and
-/// more than three rungs remain; a plateau is never trimmed.
+/// more than three rungs remain; a plateau is never trimmed. With four or
+/// more rungs left and no plateau the order comes from
+/// [`fit_with_correction`], else from the straight line.
 ///
 /// ```
 /// use drift::metrics::{analyse_series, RungClass};
@@ -293,11 +359,23 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
         }
         line = line_of(&used);
     }
-    let fit = line.map(|l| OrderFit {
-        order: l.slope,
-        residual: l.residual,
-        first: used[0],
-        last: used[used.len() - 1],
+    // With four or more rungs and no plateau, the order is fitted with the
+    // leading correction term; otherwise it is the plain slope.
+    let corrected = if plateau_from.is_none() {
+        let xs: Vec<f64> = used.iter().map(|&k| x[k]).collect();
+        let ys: Vec<f64> = used.iter().map(|&k| d[k].unwrap_or(0.0)).collect();
+        fit_with_correction(&xs, &ys)
+    } else {
+        None
+    };
+    let fit = line.map(|l| {
+        let (order, residual) = corrected.unwrap_or((l.slope, l.residual));
+        OrderFit {
+            order,
+            residual,
+            first: used[0],
+            last: used[used.len() - 1],
+        }
     });
     SeriesAnalysis {
         classes,
