@@ -155,11 +155,12 @@ pub fn fit_with_correction(x: &[f64], y: &[f64]) -> Option<(f64, f64)> {
         if d.abs() < 1e-300 || !d.is_finite() {
             return None;
         }
-        for r in 0..3 {
+        let pivot_row = a[col];
+        for (r, row) in a.iter_mut().enumerate() {
             if r != col {
-                let m = a[r][col] / d;
-                for c in col..4 {
-                    a[r][c] -= m * a[col][c];
+                let m = row[col] / d;
+                for (v, p) in row.iter_mut().zip(pivot_row).skip(col) {
+                    *v -= m * p;
                 }
             }
         }

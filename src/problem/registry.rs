@@ -83,7 +83,7 @@ impl BuiltinInfo {
     /// use drift::Problem;
     /// let info = drift::problem::registry::find("kepler").unwrap();
     /// let p = info.build(&BTreeMap::from([("e".to_string(), 0.9)])).unwrap();
-    /// assert_eq!(p.name(), "kepler");
+    /// assert_eq!(p.as_problem().name(), "kepler");
     /// assert!(info.build(&BTreeMap::from([("e".to_string(), 1.0)])).is_err());
     /// ```
     pub fn build(&self, params: &BTreeMap<String, f64>) -> Result<Builtin, BuildError> {
@@ -133,7 +133,7 @@ static CATALOG: &[BuiltinInfo] = &[
         make: |v| Harmonic::new(v[0], v[1], v[2]).map(Builtin::Harmonic),
     },
     BuiltinInfo {
-        name: "power-law",
+        name: "power_law",
         summary: "oscillator in V = k|x|^p: energy, exact amplitude-dependent period, virial 2<T> = p<V>",
         params: &[
             param("p", 4.0, "exponent, > 1 (real)"),
@@ -210,7 +210,7 @@ static CATALOG: &[BuiltinInfo] = &[
         make: |_| Ok(Builtin::Arenstorf(Arenstorf::new())),
     },
     BuiltinInfo {
-        name: "lotka-volterra",
+        name: "lotka_volterra",
         summary: "Lotka-Volterra u' = u (v - b), v' = v (a - u): first integral, self-convergence",
         params: &[
             param("a", 1.0, "prey parameter, > 0"),
@@ -308,5 +308,30 @@ impl Builtin {
         config: &Config,
     ) -> Result<Measurement, MeasureError> {
         each_builtin!(self, p => measure(method, p, config))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_entry_builds_at_its_defaults_under_its_own_name() {
+        for info in catalog() {
+            let p = info.build_default().unwrap_or_else(|e| panic!("{}: {e}", info.name));
+            let p = p.as_problem();
+            assert_eq!(p.name(), info.name);
+            let n = p.dim();
+            let mut y = vec![0.0; n];
+            p.initial(&mut y);
+            let mut a = vec![0.0; n / 2];
+            assert_eq!(n % 2 == 0 && p.accel(p.t0(), &y[..n / 2], &mut a), info.second_order, "{}", info.name);
+        }
+    }
+
+    #[test]
+    fn unknown_parameter_names_the_valid_ones() {
+        let err = find("pendulum").unwrap().build(&BTreeMap::from([("amplitude".to_string(), 10.0)])).unwrap_err();
+        assert!(err.to_string().contains("amplitude_deg"), "{err}");
     }
 }
