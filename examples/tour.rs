@@ -49,12 +49,22 @@ fn opt(v: Option<f64>, width: usize, prec: usize) -> String {
 fn row(m: &Measurement) -> String {
     let fit = m.solution.fit;
     let steps = |k: usize| m.rungs[k].resolution.steps_per_unit().unwrap_or(0);
-    let range = fit.map_or("-".to_string(), |f| format!("{}..{}", steps(f.first), steps(f.last)));
-    let energy = m.invariants.iter().find(|i| i.name == "energy").and_then(|i| i.drift_forward);
+    let range = fit.map_or("-".to_string(), |f| {
+        format!("{}..{}", steps(f.first), steps(f.last))
+    });
+    let energy = m
+        .invariants
+        .iter()
+        .find(|i| i.name == "energy")
+        .and_then(|i| i.drift_forward);
     format!(
         "{:<15} {:<6} {} {:>12} {} {:<12} {}",
         m.problem,
-        if m.basis == drift::measure::Basis::Exact { "exact" } else { "self" },
+        if m.basis == drift::measure::Basis::Exact {
+            "exact"
+        } else {
+            "self"
+        },
         opt(fit.map(|f| f.order), 6, 3),
         range,
         opt(m.solution.best.map(|b| b.digits), 6, 2),
@@ -65,7 +75,10 @@ fn row(m: &Measurement) -> String {
 
 fn main() {
     println!("classical RK4 on the built-in reference problems (default configuration)\n");
-    println!("{:<15} {:<6} {:>6} {:>12} {:>6} {:<12} {:>6}", "problem", "error", "order", "fit range", "best", "energy", "return");
+    println!(
+        "{:<15} {:<6} {:>6} {:>12} {:>6} {:<12} {:>6}",
+        "problem", "error", "order", "fit range", "best", "energy", "return"
+    );
     for info in registry::catalog() {
         let problem = info.build_default().expect("defaults are valid");
         match problem.measure_with(&mut Fixed(Rk4::default()), &Config::default()) {

@@ -318,20 +318,30 @@ mod tests {
     #[test]
     fn every_entry_builds_at_its_defaults_under_its_own_name() {
         for info in catalog() {
-            let p = info.build_default().unwrap_or_else(|e| panic!("{}: {e}", info.name));
+            let p = info
+                .build_default()
+                .unwrap_or_else(|e| panic!("{}: {e}", info.name));
             let p = p.as_problem();
             assert_eq!(p.name(), info.name);
             let n = p.dim();
             let mut y = vec![0.0; n];
             p.initial(&mut y);
             let mut a = vec![0.0; n / 2];
-            assert_eq!(n % 2 == 0 && p.accel(p.t0(), &y[..n / 2], &mut a), info.second_order, "{}", info.name);
+            assert_eq!(
+                n % 2 == 0 && p.accel(p.t0(), &y[..n / 2], &mut a),
+                info.second_order,
+                "{}",
+                info.name
+            );
         }
     }
 
     #[test]
     fn unknown_parameter_names_the_valid_ones() {
-        let err = find("pendulum").unwrap().build(&BTreeMap::from([("amplitude".to_string(), 10.0)])).unwrap_err();
+        let err = find("pendulum")
+            .unwrap()
+            .build(&BTreeMap::from([("amplitude".to_string(), 10.0)]))
+            .unwrap_err();
         assert!(err.to_string().contains("amplitude_deg"), "{err}");
     }
 }
