@@ -8,7 +8,7 @@
 
 mod common;
 
-use common::{exact_rhs_mismatch, invariant_change_on_exact, read_table, ulps_rel};
+use common::{exact_rhs_mismatch, invariant_change_on_exact, tagged_table, ulps_rel};
 use drift::problem::kepler::Kepler;
 use drift::problem::pendulum::Pendulum;
 use drift::problem::power_law::PowerLaw;
@@ -17,20 +17,9 @@ use std::f64::consts::{PI, TAU};
 
 const EPS: f64 = f64::EPSILON;
 
-fn num(s: &str) -> f64 {
-    s.parse()
-        .unwrap_or_else(|e| panic!("bad number {s:?}: {e}"))
-}
-
 /// Rows of the mpmath table with the given tag, as numbers (tag dropped).
 fn table(tag: &str) -> Vec<Vec<f64>> {
-    let rows: Vec<Vec<f64>> = read_table("special_table.txt")
-        .into_iter()
-        .filter(|r| r[0] == tag)
-        .map(|r| r[1..].iter().map(|s| num(s)).collect())
-        .collect();
-    assert!(!rows.is_empty(), "no rows tagged {tag}");
-    rows
+    tagged_table("special_table.txt", tag)
 }
 
 /// Largest component-scaled difference between `problem.exact(t)` and `want`.

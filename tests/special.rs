@@ -7,7 +7,7 @@
 
 mod common;
 
-use common::{read_table, ulps_rel};
+use common::{tagged_table, ulps_rel};
 use drift::special::{
     agm, ellip_k, ellip_k_m1, gamma, gamma_ratio_half, kepler_eccentric_anomaly, sn_cn_dn,
     sn_cn_dn_m1, EllipticParameter,
@@ -16,20 +16,9 @@ use std::f64::consts::PI;
 
 const EPS: f64 = f64::EPSILON;
 
-fn num(s: &str) -> f64 {
-    s.parse()
-        .unwrap_or_else(|e| panic!("bad number {s:?}: {e}"))
-}
-
 /// Rows of the mpmath table with the given tag, as numbers (tag dropped).
 fn table(tag: &str) -> Vec<Vec<f64>> {
-    let rows: Vec<Vec<f64>> = read_table("special_table.txt")
-        .into_iter()
-        .filter(|r| r[0] == tag)
-        .map(|r| r[1..].iter().map(|s| num(s)).collect())
-        .collect();
-    assert!(!rows.is_empty(), "no rows tagged {tag}");
-    rows
+    tagged_table("special_table.txt", tag)
 }
 
 fn assert_rel(got: f64, want: f64, ulps: f64, what: &str) {

@@ -6,6 +6,7 @@ use crate::measure::method::{advance_checked, Counted, Method};
 use crate::measure::{Config, Ladder, MeasureError};
 use crate::metrics::{analyse_series, digits, SeriesAnalysis};
 use crate::problem::Problem;
+use crate::stepper::Counts;
 
 /// The resolution of one rung.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -174,13 +175,27 @@ impl<'p, P: Problem + ?Sized> Reader<'p, P> {
         self.samples.push(y.to_vec());
     }
 
-    fn finish(self, rung: Rung, diverged: bool) -> RawRung {
-        let mut rung = rung;
-        rung.invariant_digits = self
-            .inv_error
-            .iter()
-            .map(|&e| if diverged { 0.0 } else { digits(e) })
-            .collect();
+    fn finish(
+        self,
+        resolution: Resolution,
+        counts: Counts,
+        evals: u64,
+        diverged_at: Option<f64>,
+    ) -> RawRung {
+        let diverged = diverged_at.is_some();
+        let rung = Rung {
+            resolution,
+            steps: counts.steps,
+            evals,
+            rejected: counts.rejected,
+            solution_digits: None,
+            invariant_digits: self
+                .inv_error
+                .iter()
+                .map(|&e| if diverged { 0.0 } else { digits(e) })
+                .collect(),
+            diverged_at,
+        };
         RawRung {
             rung,
             exact_error: if diverged {
@@ -238,16 +253,16 @@ fn run_fixed_rung<M: Method, P: Problem + ?Sized>(
         reader.read(t0 + next as f64 * h, &y);
         i = next;
     }
-    let rung = Rung {
-        resolution: Resolution::StepsPerUnit(g.steps_per_unit),
+    let counts = Counts {
         steps: g.total,
-        evals: f.evals(),
         rejected,
-        solution_digits: None,
-        invariant_digits: Vec::new(),
-        diverged_at,
     };
-    Ok(reader.finish(rung, diverged_at.is_some()))
+    Ok(reader.finish(
+        Resolution::StepsPerUnit(g.steps_per_unit),
+        counts,
+        f.evals(),
+        diverged_at,
+    ))
 }
 
 fn run_tolerance_rung<M: Method, P: Problem + ?Sized>(
@@ -268,21 +283,11 @@ fn run_tolerance_rung<M: Method, P: Problem + ?Sized>(
     let c = method
         .adaptive(&f, t0, t1, &mut y, tol)
         .map_err(MeasureError::Integrator)?;
-    let (steps, rejected) = (c.steps, c.rejected);
     let diverged_at = y.iter().any(|v| !v.is_finite()).then_some(t1);
     if diverged_at.is_none() {
         reader.read(t1, &y);
     }
-    let rung = Rung {
-        resolution: Resolution::Tolerance(tol),
-        steps,
-        evals: f.evals(),
-        rejected,
-        solution_digits: None,
-        invariant_digits: Vec::new(),
-        diverged_at,
-    };
-    Ok(reader.finish(rung, diverged_at.is_some()))
+    Ok(reader.finish(Resolution::Tolerance(tol), c, f.evals(), diverged_at))
 }
 
 /// Solution digits per rung on the chosen basis.

@@ -81,3 +81,21 @@ pub fn read_table(name: &str) -> Vec<Vec<String>> {
 pub fn ulps_rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs().max(f64::MIN_POSITIVE) / f64::EPSILON
 }
+
+/// Parses a table field as f64, naming it on failure.
+pub fn num(s: &str) -> f64 {
+    s.parse()
+        .unwrap_or_else(|e| panic!("bad number {s:?}: {e}"))
+}
+
+/// Rows of `tests/data/FILE` whose first field is `tag`, as numbers with the
+/// tag dropped; panics when there are none.
+pub fn tagged_table(file: &str, tag: &str) -> Vec<Vec<f64>> {
+    let rows: Vec<Vec<f64>> = read_table(file)
+        .into_iter()
+        .filter(|r| r[0] == tag)
+        .map(|r| r[1..].iter().map(|s| num(s)).collect())
+        .collect();
+    assert!(!rows.is_empty(), "no rows tagged {tag} in {file}");
+    rows
+}
