@@ -1,7 +1,9 @@
 //! cargo-drift: guards time-stepping code against silent loss of accuracy.
 #![warn(missing_docs)]
 
+pub mod baseline;
 pub mod claims;
+pub mod env;
 pub mod measure;
 pub mod metrics;
 pub mod problem;
