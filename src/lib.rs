@@ -43,7 +43,9 @@
 //! licensed engineering judgment.
 #![warn(missing_docs)]
 
+pub mod baseline;
 pub mod claims;
+pub mod env;
 pub mod measure;
 pub mod metrics;
 pub mod problem;

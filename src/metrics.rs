@@ -179,21 +179,27 @@ pub fn fit_with_correction(x: &[f64], y: &[f64]) -> Option<(f64, f64)> {
 }
 
 /// How one rung of a ladder was read.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 pub enum RungClass {
     /// Error above 10 percent, or the coarse end trimmed from the fit.
+    #[serde(rename = "pre")]
     PreAsymptotic,
     /// Used in the order fit.
+    #[serde(rename = "fit")]
     Fitted,
     /// Within [`FLOOR_BAND`] of the floor, or trimmed from the fine end.
+    #[serde(rename = "near-floor")]
     NearFloor,
     /// Stopped improving at a level rounding explains.
+    #[serde(rename = "floor")]
     Floor,
     /// Stopped improving far above what rounding explains: a consistency
     /// error. Counts as order 0 and stays in the fit.
+    #[serde(rename = "plateau")]
     Plateau,
     /// No figure at this rung (for example the finest rung of a
     /// self-convergence study).
+    #[serde(rename = "none")]
     Missing,
 }
 
@@ -388,7 +394,10 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
 }
 
 /// How the error of a conserved quantity grows over a long run.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+#[derive(
+    Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize, serde::Deserialize,
+)]
+#[serde(rename_all = "kebab-case")]
 pub enum DriftClass {
     /// Stays bounded (exponent below 0.25): symplectic methods, or exact.
     Bounded,

@@ -34,7 +34,8 @@ impl Resolution {
 }
 
 /// What the solution error is measured against.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
 pub enum Basis {
     /// The problem's exact solution (at the samples where it is known).
     Exact,

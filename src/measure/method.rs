@@ -84,13 +84,16 @@ impl<P: Problem + ?Sized> Accel for Counted<'_, P> {
 }
 
 /// Which of the user-facing traits a method implements.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 pub enum MethodKind {
     /// A [`Stepper`].
+    #[serde(rename = "stepper")]
     Fixed,
     /// A [`SplitStepper`].
+    #[serde(rename = "split-stepper")]
     Split,
     /// An [`Integrator`].
+    #[serde(rename = "integrator")]
     Whole,
 }
 

@@ -1,0 +1,298 @@
+//! The TOML layout of the baseline file: flat serde tables for the header and
+//! each check, and their checked conversion to and from [`CheckRecord`].
+//! Everything that the types alone cannot guarantee (array lengths, rung
+//! indices, fields that go together) is validated here, with the position of
+//! the offending table.
+
+use std::collections::BTreeMap;
+use std::ops::Range;
+
+use serde::{Deserialize, Serialize};
+use toml::Spanned;
+
+use super::record::{CheckRecord, DriftRecord, InvariantRecord, LadderRecord};
+use super::Header;
+use crate::measure::{Basis, MethodKind};
+use crate::metrics::{Best, DriftClass, OrderFit, RungClass, MAX_DIGITS};
+
+/// Digits value that stands for "no figure at this rung".
+pub(super) const NO_FIGURE: f64 = -1.0;
+
+/// A problem found in the file, with the byte range it concerns.
+pub(super) struct Located {
+    pub span: Option<Range<usize>>,
+    pub message: String,
+}
+
+impl From<toml::de::Error> for Located {
+    fn from(e: toml::de::Error) -> Self {
+        Located {
+            span: e.span(),
+            message: e.message().to_string(),
+        }
+    }
+}
+
+/// The whole file; `C` is a plain check for writing and a spanned one for
+/// reading.
+#[derive(Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(super) struct RawFile<C> {
+    pub header: Header,
+    #[serde(default = "BTreeMap::new")]
+    pub check: BTreeMap<String, C>,
+}
+
+/// Only the format version, read before anything else so that a file from a
+/// newer version is reported as such rather than as unknown fields.
+#[derive(Deserialize)]
+pub(super) struct Probe {
+    pub header: ProbeHeader,
+}
+
+/// The format field of the header.
+#[derive(Deserialize)]
+pub(super) struct ProbeHeader {
+    pub format: Spanned<u32>,
+}
+
+/// One check as written.
+#[derive(Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(super) struct RawCheck {
+    kind: MethodKind,
+    basis: Basis,
+    steps_per_unit: Option<Vec<u64>>,
+    tolerances: Option<Vec<String>>,
+    digits: Vec<f64>,
+    classes: Vec<RungClass>,
+    order: Option<f64>,
+    order_residual: Option<f64>,
+    fit_from: Option<usize>,
+    fit_to: Option<usize>,
+    best_digits: Option<f64>,
+    best_rung: Option<usize>,
+    plateau_from: Option<usize>,
+    floor_from: Option<usize>,
+    evals_per_step: f64,
+    period_digits: Option<f64>,
+    virial_digits: Option<f64>,
+    reversibility_digits: Option<f64>,
+    diverged_at: Option<f64>,
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    invariant: BTreeMap<String, RawInvariant>,
+}
+
+/// One invariant of a check as written.
+#[derive(Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawInvariant {
+    best_digits: Option<f64>,
+    order: Option<f64>,
+    drift_forward: Option<DriftClass>,
+    drift_forward_exponent: Option<f64>,
+    drift_backward: Option<DriftClass>,
+    drift_backward_exponent: Option<f64>,
+}
+
+fn split_drift(d: Option<DriftRecord>) -> (Option<DriftClass>, Option<f64>) {
+    (d.map(|d| d.class), d.map(|d| d.exponent))
+}
+
+fn join_drift(
+    class: Option<DriftClass>,
+    exponent: Option<f64>,
+    what: &str,
+) -> Result<Option<DriftRecord>, String> {
+    match (class, exponent) {
+        (Some(class), Some(exponent)) => Ok(Some(DriftRecord { class, exponent })),
+        (None, None) => Ok(None),
+        _ => Err(format!("`{what}` and `{what}_exponent` go together")),
+    }
+}
+
+impl From<&CheckRecord> for RawCheck {
+    fn from(r: &CheckRecord) -> Self {
+        let (steps_per_unit, tolerances) = match &r.ladder {
+            LadderRecord::Steps(s) => (Some(s.clone()), None),
+            LadderRecord::Tolerances(t) => {
+                (None, Some(t.iter().map(|t| format!("{t:e}")).collect()))
+            }
+        };
+        let invariant = r
+            .invariants
+            .iter()
+            .map(|(name, inv)| {
+                let (drift_forward, drift_forward_exponent) = split_drift(inv.drift_forward);
+                let (drift_backward, drift_backward_exponent) = split_drift(inv.drift_backward);
+                let raw = RawInvariant {
+                    best_digits: inv.best_digits,
+                    order: inv.order,
+                    drift_forward,
+                    drift_forward_exponent,
+                    drift_backward,
+                    drift_backward_exponent,
+                };
+                (name.clone(), raw)
+            })
+            .collect();
+        RawCheck {
+            kind: r.kind,
+            basis: r.basis,
+            steps_per_unit,
+            tolerances,
+            digits: r.digits.iter().map(|d| d.unwrap_or(NO_FIGURE)).collect(),
+            classes: r.classes.clone(),
+            order: r.fit.map(|f| f.order),
+            order_residual: r.fit.map(|f| f.residual),
+            fit_from: r.fit.map(|f| f.first),
+            fit_to: r.fit.map(|f| f.last),
+            best_digits: r.best.map(|b| b.digits),
+            best_rung: r.best.map(|b| b.rung),
+            plateau_from: r.plateau_from,
+            floor_from: r.floor_from,
+            evals_per_step: r.evals_per_step,
+            period_digits: r.period_digits,
+            virial_digits: r.virial_digits,
+            reversibility_digits: r.reversibility_digits,
+            diverged_at: r.diverged_at,
+            invariant,
+        }
+    }
+}
+
+impl RawCheck {
+    /// The record, or what is inconsistent about the table.
+    pub(super) fn into_record(self) -> Result<CheckRecord, String> {
+        let ladder = match (self.steps_per_unit, self.tolerances) {
+            (Some(s), None) => LadderRecord::Steps(s),
+            (None, Some(t)) => LadderRecord::Tolerances(
+                t.iter()
+                    .map(|s| match s.trim().parse::<f64>() {
+                        Ok(x) if x.is_finite() && x > 0.0 => Ok(x),
+                        _ => Err(format!(
+                            "`tolerances` entry \"{s}\" is not a positive number such as \"1e-6\""
+                        )),
+                    })
+                    .collect::<Result<_, _>>()?,
+            ),
+            _ => return Err("give exactly one of `steps_per_unit` and `tolerances`".into()),
+        };
+        let n = ladder.len();
+        for (name, len) in [
+            ("digits", self.digits.len()),
+            ("classes", self.classes.len()),
+        ] {
+            if len != n {
+                return Err(format!(
+                    "`{name}` has {len} entries but the ladder has {n} rungs"
+                ));
+            }
+        }
+        let digits = self
+            .digits
+            .iter()
+            .map(|&d| {
+                if d == NO_FIGURE {
+                    Ok(None)
+                } else if (0.0..=MAX_DIGITS).contains(&d) {
+                    Ok(Some(d))
+                } else {
+                    Err(format!(
+                        "`digits` entry {d} is neither in [0, {MAX_DIGITS}] nor {NO_FIGURE} (no figure)"
+                    ))
+                }
+            })
+            .collect::<Result<_, _>>()?;
+        let rung = |name: &str, k: Option<usize>| match k {
+            Some(k) if k >= n => Err(format!("`{name}` = {k} is past the last rung ({n} rungs)")),
+            _ => Ok(k),
+        };
+        let fit = match (
+            self.order,
+            self.order_residual,
+            rung("fit_from", self.fit_from)?,
+            rung("fit_to", self.fit_to)?,
+        ) {
+            (Some(order), Some(residual), Some(first), Some(last)) if first <= last => {
+                Some(OrderFit {
+                    order,
+                    residual,
+                    first,
+                    last,
+                })
+            }
+            (None, None, None, None) => None,
+            _ => {
+                return Err(
+                    "`order`, `order_residual`, `fit_from` and `fit_to` go together (with fit_from <= fit_to)"
+                        .into(),
+                )
+            }
+        };
+        let best = match (self.best_digits, rung("best_rung", self.best_rung)?) {
+            (Some(digits), Some(rung)) => Some(Best { digits, rung }),
+            (None, None) => None,
+            _ => return Err("`best_digits` and `best_rung` go together".into()),
+        };
+        let invariants = self
+            .invariant
+            .into_iter()
+            .map(|(name, raw)| {
+                let inv = InvariantRecord {
+                    best_digits: raw.best_digits,
+                    order: raw.order,
+                    drift_forward: join_drift(
+                        raw.drift_forward,
+                        raw.drift_forward_exponent,
+                        "drift_forward",
+                    )?,
+                    drift_backward: join_drift(
+                        raw.drift_backward,
+                        raw.drift_backward_exponent,
+                        "drift_backward",
+                    )?,
+                };
+                Ok((name, inv))
+            })
+            .collect::<Result<_, String>>()?;
+        Ok(CheckRecord {
+            kind: self.kind,
+            basis: self.basis,
+            ladder,
+            digits,
+            classes: self.classes,
+            fit,
+            best,
+            plateau_from: rung("plateau_from", self.plateau_from)?,
+            floor_from: rung("floor_from", self.floor_from)?,
+            evals_per_step: self.evals_per_step,
+            invariants,
+            period_digits: self.period_digits,
+            virial_digits: self.virial_digits,
+            reversibility_digits: self.reversibility_digits,
+            diverged_at: self.diverged_at,
+        })
+    }
+}
+
+/// Converts spanned checks read from a file, naming the check and pointing
+/// at its table on failure.
+pub(super) fn records(
+    checks: BTreeMap<String, Spanned<RawCheck>>,
+) -> Result<BTreeMap<String, CheckRecord>, Located> {
+    checks
+        .into_iter()
+        .map(|(name, spanned)| {
+            let span = spanned.span();
+            spanned
+                .into_inner()
+                .into_record()
+                .map(|r| (name.clone(), r))
+                .map_err(|m| Located {
+                    span: Some(span),
+                    message: format!("check \"{name}\": {m}"),
+                })
+        })
+        .collect()
+}
