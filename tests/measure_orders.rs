@@ -122,6 +122,14 @@ fn sweep<M: Method>(
 /// floor over two periods is under 4 digits at 5e5 steps per period.
 const LOW_ORDER_OUT_OF_REACH: &[&str] = &["arenstorf"];
 
+fn assert_none_missed(misses: &[String]) {
+    assert!(
+        misses.is_empty(),
+        "orders outside the band:\n{}",
+        misses.join("\n")
+    );
+}
+
 #[test]
 fn explicit_runge_kutta_orders_on_every_problem() {
     let all = problems_all();
@@ -162,11 +170,7 @@ fn explicit_runge_kutta_orders_on_every_problem() {
         &config(4_000_000),
         &[],
     ));
-    assert!(
-        misses.is_empty(),
-        "orders outside the band:\n{}",
-        misses.join("\n")
-    );
+    assert_none_missed(&misses);
 }
 
 #[test]
@@ -206,11 +210,7 @@ fn split_stepper_orders_on_every_second_order_problem() {
         &[],
     );
     misses.extend(tj);
-    assert!(
-        misses.is_empty(),
-        "orders outside the band:\n{}",
-        misses.join("\n")
-    );
+    assert_none_missed(&misses);
 }
 
 /// On Lotka-Volterra the order of Dormand-Prince against evaluations reads
@@ -237,11 +237,7 @@ fn dormand_prince_order_against_evaluations() {
         &cfg,
         &[],
     );
-    assert!(
-        misses.is_empty(),
-        "orders outside the band:\n{}",
-        misses.join("\n")
-    );
+    assert_none_missed(&misses);
 }
 
 #[test]
