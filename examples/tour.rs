@@ -80,9 +80,14 @@ fn main() {
         "problem", "error", "order", "fit range", "best", "energy", "return"
     );
     for info in registry::catalog() {
+        let started = std::time::Instant::now();
         let problem = info.build_default().expect("defaults are valid");
-        match problem.measure_with(&mut Fixed(Rk4::default()), &Config::default()) {
-            Ok(m) => println!("{}", row(&m)),
+        let config = Config {
+            periods: info.periods,
+            ..Config::default()
+        };
+        match problem.measure_with(&mut Fixed(Rk4::default()), &config) {
+            Ok(m) => println!("{} {:>7.0?}", row(&m), started.elapsed()),
             Err(e) => println!("{:<15} error: {e}", info.name),
         }
     }

@@ -25,6 +25,7 @@ fn long(n: u64, periods: f64) -> Config {
         long_run: Some(LongRun {
             periods,
             steps_per_unit: Some(n),
+            max_steps: u64::MAX,
         }),
         ..Config::default()
     }

@@ -74,11 +74,32 @@ pub struct LongRun {
     /// solution has at least 3 digits (truncation error well above rounding,
     /// so the drift of the method shows), else the finest rung.
     pub steps_per_unit: Option<u64>,
+    /// Most steps in each direction: when `periods` at the chosen resolution
+    /// would take more, the run is shortened to the whole number of time
+    /// units that fits (at least one). The report gives the length used.
+    pub max_steps: u64,
+}
+
+impl LongRun {
+    /// The length actually run at `n` steps per unit: `periods`, shortened to
+    /// fit `max_steps`.
+    ///
+    /// ```
+    /// let lr = drift::measure::LongRun { periods: 1000.0, steps_per_unit: None, max_steps: 64_000 };
+    /// assert_eq!(lr.periods_at(32), 1000.0);
+    /// assert_eq!(lr.periods_at(256), 250.0);
+    /// assert_eq!(lr.periods_at(1 << 20), 1.0);
+    /// ```
+    pub fn periods_at(&self, n: u64) -> f64 {
+        let fits = (self.max_steps / n.max(1)).max(1) as f64;
+        self.periods.min(fits)
+    }
 }
 
 impl Default for LongRun {
     fn default() -> Self {
         LongRun {
+            max_steps: 1_000_000,
             periods: 1000.0,
             steps_per_unit: None,
         }
@@ -287,7 +308,13 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
     let mut long = None;
     let mut invariant_drift = vec![(None, None); problem.invariants().len()];
     if let (Some(lr), Some(n), true) = (config.long_run.as_ref(), long_n, fixed_ladder) {
-        match long_run::run(method, problem, n, lr.periods, config.samples_per_unit) {
+        match long_run::run(
+            method,
+            problem,
+            n,
+            lr.periods_at(n),
+            config.samples_per_unit,
+        ) {
             Ok(report) => {
                 if diverged.is_none() {
                     diverged = report.diverged_at.map(|t| Divergence { rung: None, t });

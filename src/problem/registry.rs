@@ -35,6 +35,8 @@ pub struct BuiltinInfo {
     /// Whether it has a velocity-independent second-order form (split
     /// steppers can run on it).
     pub second_order: bool,
+    /// Default horizon of a check, in time units of the problem.
+    pub periods: f64,
     make: fn(&[f64]) -> Result<Builtin, ParamError>,
 }
 
@@ -130,6 +132,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("v0", 0.0, "initial velocity (x0, v0 not both 0)"),
         ],
         second_order: true,
+        periods: 10.0,
         make: |v| Harmonic::new(v[0], v[1], v[2]).map(Builtin::Harmonic),
     },
     BuiltinInfo {
@@ -142,6 +145,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("amplitude", 1.0, "turning point, > 0"),
         ],
         second_order: true,
+        periods: 10.0,
         make: |v| PowerLaw::new(v[0], v[1], v[2], v[3]).map(Builtin::PowerLaw),
     },
     BuiltinInfo {
@@ -152,6 +156,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("omega0", 1.0, "small-amplitude angular frequency, > 0"),
         ],
         second_order: true,
+        periods: 10.0,
         make: |v| Pendulum::new(v[0], v[1]).map(Builtin::Pendulum),
     },
     BuiltinInfo {
@@ -163,6 +168,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("e", 0.5, "eccentricity, 0 <= e < 1"),
         ],
         second_order: true,
+        periods: 10.0,
         make: |v| Kepler::new(v[0], v[1], v[2]).map(Builtin::Kepler),
     },
     BuiltinInfo {
@@ -175,6 +181,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("v0", 0.0, "initial velocity"),
         ],
         second_order: false,
+        periods: 10.0,
         make: |v| Damped::new(v[0], v[1], v[2], v[3]).map(Builtin::Damped),
     },
     BuiltinInfo {
@@ -188,6 +195,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("v0", 0.0, "initial velocity"),
         ],
         second_order: true,
+        periods: 10.0,
         make: |v| Driven::new(v[0], v[1], v[2], v[3], v[4]).map(Builtin::Driven),
     },
     BuiltinInfo {
@@ -200,6 +208,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("y0_im", 0.0, "imaginary part of y(0)"),
         ],
         second_order: false,
+        periods: 10.0,
         make: |v| Linear::with_initial(v[0], v[1], v[2], v[3]).map(Builtin::Linear),
     },
     BuiltinInfo {
@@ -207,6 +216,7 @@ static CATALOG: &[BuiltinInfo] = &[
         summary: "Arenstorf periodic orbit of the restricted three-body problem (Hairer-Norsett-Wanner I, II.0)",
         params: &[],
         second_order: false,
+        periods: 1.0,
         make: |_| Ok(Builtin::Arenstorf(Arenstorf::new())),
     },
     BuiltinInfo {
@@ -219,6 +229,7 @@ static CATALOG: &[BuiltinInfo] = &[
             param("v0", 2.0, "initial predators, > 0"),
         ],
         second_order: false,
+        periods: 10.0,
         make: |v| LotkaVolterra::new(v[0], v[1], v[2], v[3]).map(Builtin::LotkaVolterra),
     },
 ];
