@@ -43,6 +43,7 @@
 //! licensed engineering judgment.
 #![warn(missing_docs)]
 
+pub mod atomic;
 pub mod baseline;
 pub mod claims;
 pub mod env;

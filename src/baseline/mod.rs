@@ -17,7 +17,6 @@ pub use record::{round_figure, CheckRecord, DriftRecord, InvariantRecord, Ladder
 use std::collections::BTreeMap;
 use std::fmt;
 use std::fs;
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
@@ -287,51 +286,15 @@ impl Baseline {
     /// std::fs::remove_dir_all(&dir).unwrap();
     /// ```
     pub fn write_atomic(&self, path: &Path) -> Result<(), BaselineError> {
-        let name = path.file_name().ok_or_else(|| BaselineError {
-            path: path.to_path_buf(),
-            position: None,
-            kind: ErrorKind::Io,
-            message: "the path names no file".into(),
-            hint: format!("give a file path such as {FILE_NAME}"),
-        })?;
-        let dir = match path.parent() {
-            Some(d) if !d.as_os_str().is_empty() => d,
-            _ => Path::new("."),
-        };
-        let mut tmp_name = std::ffi::OsString::from(".");
-        tmp_name.push(name);
-        tmp_name.push(format!(".{}.tmp", std::process::id()));
-        let tmp = dir.join(tmp_name);
-        let text = self.to_toml();
-        let mut file = fs::File::create_new(&tmp)
-            .map_err(|e| BaselineError::io(path, "create a temporary file beside it", &e))?;
-        let written = (|| {
-            file.write_all(text.as_bytes())?;
-            file.flush()?;
-            if let Ok(meta) = fs::metadata(path) {
-                file.set_permissions(meta.permissions())?;
-            }
-            file.sync_all()?;
-            drop(file);
-            fs::rename(&tmp, path)
-        })();
-        if let Err(e) = written {
-            // Best effort: the error being reported is the write's.
-            let _ = fs::remove_file(&tmp);
-            return Err(BaselineError::io(path, "write the baseline", &e));
-        }
-        sync_dir(dir);
-        Ok(())
+        crate::atomic::write_atomic(path, self.to_toml().as_bytes())
+            .map_err(|e| BaselineError::io(path, e.step, &e.source))
     }
 }
 
-/// Makes the rename durable on Unix by syncing the directory (best effort;
-/// other platforms cannot open a directory as a file).
-fn sync_dir(dir: &Path) {
-    #[cfg(unix)]
-    if let Ok(d) = fs::File::open(dir) {
-        let _ = d.sync_all();
+/// The layout of the file and of the JSON measurements: the same keys as a
+/// `[check."..."]` table.
+impl Serialize for CheckRecord {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        RawCheck::from(self).serialize(serializer)
     }
-    #[cfg(not(unix))]
-    let _ = dir;
 }
