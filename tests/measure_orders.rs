@@ -14,6 +14,7 @@ use drift::problem::{
     arenstorf::Arenstorf, damped::Damped, driven::Driven, harmonic::Harmonic, kepler::Kepler,
     linear::Linear, lotka_volterra::LotkaVolterra, pendulum::Pendulum, power_law::PowerLaw,
 };
+use drift::problem::has_second_order;
 use drift::Problem;
 
 /// Fixed-step orders must come out within this of the published order
@@ -35,14 +36,6 @@ fn problems_all() -> Vec<Box<dyn Problem>> {
         Box::new(Arenstorf::default()),
         Box::new(LotkaVolterra::default()),
     ]
-}
-
-fn second_order(p: &dyn Problem) -> bool {
-    let n = p.dim();
-    let mut y = vec![0.0; n];
-    p.initial(&mut y);
-    let mut a = vec![0.0; n / 2];
-    n % 2 == 0 && p.accel(p.t0(), &y[..n / 2], &mut a)
 }
 
 fn config(budget: u64) -> Config {
@@ -177,7 +170,7 @@ fn explicit_runge_kutta_orders_on_every_problem() {
 fn split_stepper_orders_on_every_second_order_problem() {
     let split: Vec<Box<dyn Problem>> = problems_all()
         .into_iter()
-        .filter(|p| second_order(p.as_ref()))
+        .filter(|p| has_second_order(p.as_ref()))
         .collect();
     let names: Vec<&str> = split.iter().map(|p| p.name()).collect();
     assert_eq!(

@@ -8,7 +8,7 @@
 
 use std::cell::Cell;
 
-use crate::problem::Problem;
+use crate::problem::{has_second_order, Problem};
 use crate::stepper::{
     Accel, Control, Counts, IntegrateError, Integrator, Rhs, SplitStepper, Stepper,
 };
@@ -189,11 +189,7 @@ impl<S: SplitStepper> Method for Split<S> {
         MethodKind::Split
     }
     fn compatible<P: Problem + ?Sized>(&self, problem: &P) -> Result<(), String> {
-        let n = problem.dim();
-        let mut y0 = vec![0.0; n];
-        problem.initial(&mut y0);
-        let mut a = vec![0.0; n / 2];
-        if n % 2 == 0 && n > 0 && problem.accel(problem.t0(), &y0[..n / 2], &mut a) {
+        if has_second_order(problem) {
             Ok(())
         } else {
             Err(format!(

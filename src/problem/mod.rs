@@ -121,6 +121,23 @@ pub trait Problem: Rhs + Send + Sync {
     }
 }
 
+/// Whether `problem` has a velocity-independent second-order form at its
+/// initial state (even dimension and [`Problem::accel`] answers), so split
+/// steppers can run on it.
+///
+/// ```
+/// use drift::problem::{damped::Damped, harmonic::Harmonic, has_second_order};
+/// assert!(has_second_order(&Harmonic::default()));
+/// assert!(!has_second_order(&Damped::default()));
+/// ```
+pub fn has_second_order<P: Problem + ?Sized>(problem: &P) -> bool {
+    let n = problem.dim();
+    let mut y0 = vec![0.0; n];
+    problem.initial(&mut y0);
+    let mut a = vec![0.0; n / 2];
+    n > 0 && n % 2 == 0 && problem.accel(problem.t0(), &y0[..n / 2], &mut a)
+}
+
 /// A parameter of a built-in problem was outside its allowed range.
 #[derive(Clone, Debug, PartialEq)]
 pub struct ParamError {
