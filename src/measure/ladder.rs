@@ -127,7 +127,8 @@ struct RawRung {
     rung: Rung,
     /// Largest scaled error against the exact solution, if any sample knew it.
     exact_error: Option<f64>,
-    /// States at the samples.
+    /// States at the samples (kept only while no sample knew the exact
+    /// answer: they serve self-convergence).
     samples: Vec<Vec<f64>>,
 }
 
@@ -167,13 +168,17 @@ impl<'p, P: Problem + ?Sized> Reader<'p, P> {
         if self.problem.exact(t, &mut self.exact) {
             let e = scaled_distance(y, &self.exact, &self.scales);
             self.exact_error = Some(self.exact_error.map_or(e, |m| m.max(e)));
+            // With an exact answer the samples are never compared between
+            // rungs; not keeping them saves an allocation per sample.
+            self.samples = Vec::new();
+        } else if self.exact_error.is_none() {
+            self.samples.push(y.to_vec());
         }
         self.problem.invariant_values(t, y, &mut self.inv);
         for (k, inv) in self.problem.invariants().iter().enumerate() {
             let e = (self.inv[k] - self.inv0[k]).abs() / inv.scale;
             self.inv_error[k] = self.inv_error[k].max(if e.is_nan() { f64::INFINITY } else { e });
         }
-        self.samples.push(y.to_vec());
     }
 
     fn finish(
