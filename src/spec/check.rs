@@ -8,10 +8,9 @@ use std::ops::Range;
 use toml::Spanned;
 
 use super::errors::{Locator, SpecError};
-use super::plan::{
-    compatible, known_problem, positive, positive_budget, stepper_kind, Overrides, Settings,
-};
+use super::plan::{compatible, known_problem, stepper_kind};
 use super::schema::RawCheck;
+use super::settings::{positive, positive_budget, Overrides, Settings, DEFAULT_PERIODS};
 use super::{Catalog, Plan, PlanProblem};
 use crate::claims::Claims;
 use crate::measure::ladder::grid;
@@ -88,7 +87,7 @@ pub(super) fn declared(
         Some(t) => Some(tolerances(loc, kind, stepper, t, raw.ladder.is_some())?),
         None => None,
     };
-    let default_periods = builtin.map_or(10.0, |info| info.periods);
+    let default_periods = builtin.map_or(DEFAULT_PERIODS, |info| info.periods);
     let mut config = settings.config(
         kind,
         default_periods,
@@ -217,7 +216,7 @@ fn params(
             loc.at(
                 &at,
                 e.to_string(),
-                Some(format!("give a value with {}", p.allowed)),
+                Some(format!("give `{}` a value with {}", p.parameter, p.allowed)),
             )
         }
     })

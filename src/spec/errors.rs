@@ -102,8 +102,10 @@ impl Locator<'_> {
             };
             return self.at(&span, format!("unknown key `{key}`"), Some(help));
         }
-        let help = if message.starts_with("invalid type") || message.starts_with("invalid value") {
-            "give the value the type shown; the keys and their types are listed in DEVELOPERS.md, section `drift.toml`"
+        let help = if message.ends_with("expected u64") {
+            "give a whole number without sign or decimal point, e.g. 64"
+        } else if message.starts_with("invalid type") || message.starts_with("invalid value") {
+            "give a value of the expected type"
         } else if message.starts_with("missing field") {
             "add the key to this table"
         } else {
@@ -200,6 +202,20 @@ mod tests {
         assert_eq!(nearest("keplr", &names), Some("kepler"));
         assert_eq!(nearest("harmnoic", &names), Some("harmonic"));
         assert_eq!(nearest("zzzzzz", &names), None);
+    }
+
+    #[test]
+    fn columns_count_characters_not_bytes() {
+        let loc = Locator {
+            text: "a = \"é\"\nb = \"€\" x",
+            path: Path::new("drift.toml"),
+        };
+        let x = loc.text.find('x').unwrap();
+        assert_eq!(loc.position(x), (2, 9));
+        // Inside a multi-byte character: the character's own column.
+        let euro = loc.text.find('€').unwrap();
+        assert_eq!(loc.position(euro + 1), (2, 6));
+        assert_eq!(loc.position(usize::MAX), (2, 10));
     }
 
     #[test]

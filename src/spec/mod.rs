@@ -6,14 +6,16 @@
 //!
 //! The parts (private modules): `schema` is the serde layout of the file,
 //! `errors` holds [`SpecError`] and the name suggestions, `plan` reads the
-//! settings and stepper tables and expands the battery, `check` validates
-//! each `[[check]]`. The keys are documented in DEVELOPERS.md, section
+//! stepper tables and expands the battery, `settings` reads `[settings]`
+//! and builds each check's configuration, `check` validates each
+//! `[[check]]`. The keys are documented in DEVELOPERS.md, section
 //! `drift.toml`.
 
 mod check;
 mod errors;
 mod plan;
 mod schema;
+mod settings;
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
