@@ -50,6 +50,7 @@ pub mod env;
 pub mod measure;
 pub mod metrics;
 pub mod problem;
+pub mod spec;
 pub mod special;
 pub mod stepper;
 
