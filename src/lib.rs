@@ -47,6 +47,7 @@ pub mod atomic;
 pub mod baseline;
 pub mod claims;
 pub mod env;
+pub mod harness;
 pub mod measure;
 pub mod metrics;
 pub mod problem;
@@ -54,6 +55,7 @@ pub mod spec;
 pub mod special;
 pub mod stepper;
 
+pub use harness::Harness;
 pub use problem::{Invariant, ParamError, Problem};
 
 /// The examples in README.md, compiled and run as doctests.

@@ -10,11 +10,11 @@ mod common;
 
 use common::steppers::*;
 use drift::measure::{measure, Config, Fixed, Ladder, Measurement, Method, Split, Whole};
+use drift::problem::has_second_order;
 use drift::problem::{
     arenstorf::Arenstorf, damped::Damped, driven::Driven, harmonic::Harmonic, kepler::Kepler,
     linear::Linear, lotka_volterra::LotkaVolterra, pendulum::Pendulum, power_law::PowerLaw,
 };
-use drift::problem::has_second_order;
 use drift::Problem;
 
 /// Fixed-step orders must come out within this of the published order

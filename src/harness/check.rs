@@ -1,0 +1,151 @@
+//! Running one planned check inside its trial: build the problem, repeat the
+//! baseline's ladder, measure, record, judge, and turn a failing verdict into
+//! the trial's failure message.
+
+use std::sync::{Arc, Mutex};
+
+use libtest_mimic::Failed;
+
+use crate::baseline::{judge, Baseline, CheckRecord, Judgement, LadderRecord, Verdict};
+use crate::claims::Slack;
+use crate::measure::{Config, Ladder};
+use crate::problem::Problem;
+use crate::spec::{Plan, PlanProblem};
+
+use super::{Registered, Target};
+
+/// What every trial shares.
+pub(crate) struct Shared {
+    pub methods: Vec<Registered>,
+    pub problems: Vec<Arc<dyn Problem>>,
+    pub baseline: Option<Baseline>,
+    pub slack: Slack,
+    pub record: bool,
+    pub outcomes: Mutex<Vec<CheckOutcome>>,
+}
+
+/// The result of one check.
+#[derive(Clone, Debug)]
+pub struct CheckOutcome {
+    /// Check name, e.g. `rk4/harmonic`.
+    pub name: String,
+    /// The stepper's name.
+    pub stepper: String,
+    /// The problem's name.
+    pub problem: String,
+    /// Its figures (none when the measurement failed).
+    pub record: Option<CheckRecord>,
+    /// Verdict and the rows worth showing.
+    pub judgement: Judgement,
+}
+
+/// The ladder a check runs: the baseline's stored ladder when the plan's is
+/// automatic, so every later run repeats exactly the recorded rungs.
+fn ladder_for(plan: &Plan, recorded: Option<&CheckRecord>) -> Config {
+    let mut config = plan.config.clone();
+    if let (Ladder::Auto { .. }, Some(LadderRecord::Steps(steps))) =
+        (&config.ladder, recorded.map(|r| &r.ladder))
+    {
+        config.ladder = Ladder::Steps(steps.clone());
+    }
+    config
+}
+
+fn target(shared: &Shared, plan: &Plan) -> Result<Target, String> {
+    match &plan.problem {
+        PlanProblem::Builtin { info, params } => info
+            .build(params)
+            .map(Target::Builtin)
+            .map_err(|e| e.to_string()),
+        PlanProblem::User(name) => shared
+            .problems
+            .iter()
+            .find(|p| p.name() == name)
+            .map(|p| Target::User(Arc::clone(p)))
+            .ok_or_else(|| format!("no problem `{name}` is registered")),
+    }
+}
+
+fn problem_name(plan: &Plan) -> String {
+    match &plan.problem {
+        PlanProblem::Builtin { info, .. } => info.name.to_string(),
+        PlanProblem::User(name) => name.clone(),
+    }
+}
+
+/// Measures and judges one plan.
+pub(crate) fn run_plan(shared: &Shared, plan: &Plan) -> CheckOutcome {
+    let recorded = shared
+        .baseline
+        .as_ref()
+        .and_then(|b| b.checks.get(&plan.name));
+    let measured = shared
+        .methods
+        .iter()
+        .find(|m| m.name == plan.stepper)
+        .ok_or_else(|| format!("no stepper `{}` is registered", plan.stepper))
+        .and_then(|method| {
+            let target = target(shared, plan)?;
+            method
+                .measure(&target, &ladder_for(plan, recorded))
+                .map_err(|e| e.to_string())
+        });
+    let (record, judgement) = match measured {
+        Ok(m) => {
+            let record = CheckRecord::from_measurement(&m);
+            let judgement = judge(&record, recorded, &plan.claims, &shared.slack);
+            (Some(record), judgement)
+        }
+        Err(e) => (
+            None,
+            Judgement {
+                verdict: Verdict::Error(e),
+                rows: Vec::new(),
+            },
+        ),
+    };
+    CheckOutcome {
+        name: plan.name.clone(),
+        stepper: plan.stepper.clone(),
+        problem: problem_name(plan),
+        record,
+        judgement,
+    }
+}
+
+/// The failure message of a trial: the verdict, then the table of figures.
+pub fn failure_message(outcome: &CheckOutcome) -> String {
+    let verdict = &outcome.judgement.verdict;
+    let mut msg = match verdict {
+        Verdict::Error(e) => format!("{}: error: {e}", outcome.name),
+        v => format!("{}: {}", outcome.name, v.name()),
+    };
+    if !outcome.judgement.rows.is_empty() {
+        msg.push('\n');
+        msg.push_str(&outcome.judgement.table());
+    }
+    msg
+}
+
+/// The body of one trial. In record mode only an error fails (it is not
+/// recorded); otherwise every failing verdict does.
+pub(crate) fn run_trial(shared: &Shared, plan: &Plan) -> Result<(), Failed> {
+    let outcome = run_plan(shared, plan);
+    let verdict = &outcome.judgement.verdict;
+    let fails = if shared.record {
+        matches!(verdict, Verdict::Error(_))
+    } else {
+        verdict.fails()
+    };
+    let result = if fails {
+        Err(Failed::from(failure_message(&outcome)))
+    } else {
+        Ok(())
+    };
+    shared
+        .outcomes
+        .lock()
+        .unwrap_or_else(|e| e.into_inner())
+        .push(outcome);
+    result
+}

@@ -1,0 +1,87 @@
+//! What the harness writes besides test results: the versioned JSON document
+//! of measurements (for `cargo drift` and CI tools) and, in record mode, the
+//! merged baseline file.
+//!
+//! JSON layout, format 1:
+//! ```text
+//! { "format": 1, "tool": "0.1.0",
+//!   "environment": { "format", "tool", "target", "rustc", "profile", "features" },
+//!   "checks": [ { "name": "rk4/harmonic", "stepper": "rk4", "problem": "harmonic",
+//!                 "verdict": "pass" | "improved" | "new" | "regressed" | "claim-violated" | "error",
+//!                 "error": null | "message",
+//!                 "rows": [ { "metric", "baseline", "now", "allowed", "status" } ],
+//!                 "figures": null | { same keys as a [check."..."] table of the baseline } } ] }
+//! ```
+
+use std::collections::BTreeMap;
+use std::path::Path;
+
+use serde_json::{json, Value};
+
+use crate::baseline::{Baseline, BaselineError, Header, Verdict};
+
+use super::check::CheckOutcome;
+
+/// Version of the JSON layout.
+pub const JSON_FORMAT: u32 = 1;
+
+/// The JSON document of `outcomes`.
+pub fn document(outcomes: &[CheckOutcome]) -> Value {
+    let checks: Vec<Value> = outcomes
+        .iter()
+        .map(|o| {
+            let rows: Vec<Value> = o
+                .judgement
+                .rows
+                .iter()
+                .map(|r| {
+                    json!({ "metric": r.metric, "baseline": r.baseline, "now": r.now,
+                            "allowed": r.allowed, "status": r.status.name() })
+                })
+                .collect();
+            let error = match &o.judgement.verdict {
+                Verdict::Error(e) => Some(e.clone()),
+                _ => None,
+            };
+            json!({ "name": o.name, "stepper": o.stepper, "problem": o.problem,
+                    "verdict": o.judgement.verdict.name(), "error": error, "rows": rows,
+                    "figures": o.record })
+        })
+        .collect();
+    json!({ "format": JSON_FORMAT, "tool": env!("CARGO_PKG_VERSION"), "environment": Header::current(), "checks": checks })
+}
+
+/// Writes the baseline at `path`: the old records, with every check that
+/// measured (verdict other than error) replaced by its new figures. Checks
+/// not run (left out by a filter) keep their records unchanged; checks that
+/// errored are refused and keep theirs. Returns a one-line summary.
+pub fn record(
+    path: &Path,
+    old: Option<&Baseline>,
+    outcomes: &[CheckOutcome],
+) -> Result<String, BaselineError> {
+    let mut checks: BTreeMap<_, _> = old.map(|b| b.checks.clone()).unwrap_or_default();
+    let (mut written, mut refused) = (0, Vec::new());
+    for o in outcomes {
+        match (&o.judgement.verdict, &o.record) {
+            (Verdict::Error(_), _) | (_, None) => refused.push(o.name.as_str()),
+            (_, Some(r)) => {
+                checks.insert(o.name.clone(), r.clone());
+                written += 1;
+            }
+        }
+    }
+    let kept = checks.len() - written;
+    Baseline::new(checks).write_atomic(path)?;
+    let mut line = format!(
+        "drift: recorded {written} checks to {} ({kept} kept unchanged)",
+        path.display()
+    );
+    if !refused.is_empty() {
+        line.push_str(&format!(
+            "; not recorded because they failed to measure: {}",
+            refused.join(", ")
+        ));
+    }
+    Ok(line)
+}
