@@ -307,7 +307,11 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
     });
     let mut long = None;
     let mut invariant_drift = vec![(None, None); problem.invariants().len()];
-    if let (Some(lr), Some(n), true) = (config.long_run.as_ref(), long_n, fixed_ladder) {
+    if let (Some(lr), Some(n), true) = (
+        config.long_run.as_ref(),
+        long_n,
+        fixed_ladder && long_run_measures(problem),
+    ) {
         match long_run::run(
             method,
             problem,
@@ -368,6 +372,16 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
         evals_per_step,
         diverged,
     })
+}
+
+/// Whether the long run has anything to measure on `problem`: invariants,
+/// a period or virial terms.
+fn long_run_measures<P: Problem + ?Sized>(problem: &P) -> bool {
+    let mut y0 = vec![0.0; problem.dim()];
+    problem.initial(&mut y0);
+    !problem.invariants().is_empty()
+        || problem.period().is_some()
+        || problem.virial_terms(&y0).is_some()
 }
 
 fn validate<P: Problem + ?Sized>(problem: &P, config: &Config) -> Result<(), MeasureError> {
