@@ -226,7 +226,7 @@ fn malformed_files_name_file_line_and_column() {
     assert_eq!(e.position, Some((line, 9)), "{e}");
     let shown = e.to_string();
     assert!(shown.starts_with(&format!("{FILE}:{line}:9: ")), "{shown}");
-    assert!(shown.contains("cargo drift record"), "{shown}");
+    assert!(shown.contains("DRIFT_RECORD=1 cargo test"), "{shown}");
 
     // Broken TOML syntax.
     let bad = text.replacen("[check.\"rk4/harmonic\"]", "[check.\"rk4/harmonic\"", 1);

@@ -74,6 +74,15 @@ fn edit(file: &Path, from: &str, to: &str) {
 /// Scenarios run one at a time, so that two cargo processes do not contend
 /// for the shared target directory and their outputs stay apart in the log.
 fn cargo_test(dir: &Path, envs: &[(&str, &str)]) -> Output {
+    run_cargo(dir, envs, &[])
+}
+
+/// `cargo test --test drift ARGS...`.
+fn cargo_test_with(dir: &Path, args: &[&str]) -> Output {
+    run_cargo(dir, &[], args)
+}
+
+fn run_cargo(dir: &Path, envs: &[(&str, &str)], args: &[&str]) -> Output {
     static ONE_AT_A_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
     let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
     let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".into());
@@ -83,6 +92,7 @@ fn cargo_test(dir: &Path, envs: &[(&str, &str)]) -> Output {
         .env("CARGO_TARGET_DIR", ours().join("target").join("e2e-target"))
         .env_remove("DRIFT_RECORD")
         .env_remove("DRIFT_MEASUREMENTS");
+    cmd.args(args);
     for (k, v) in envs {
         cmd.env(k, v);
     }
@@ -277,5 +287,48 @@ fn broken_declaration_names_file_line_and_column() {
     assert!(
         log.contains("pendulum"),
         "suggests the nearest name:\n{log}"
+    );
+}
+
+/// A refactor that changes results only in the last bits (the final update
+/// summed in another order) must not fail: default slack is far above
+/// rounding-level movement.
+#[test]
+fn last_bit_refactor_passes() {
+    let s = scratch("last-bit");
+    edit(
+        &s.0.join("src/lib.rs"),
+        "y[i] += h / 6.0 * (self.k1[i] + 2.0 * self.k2[i] + 2.0 * self.k3[i] + self.k4[i]);",
+        "y[i] += (h / 6.0) * ((self.k1[i] + self.k4[i]) + 2.0 * (self.k2[i] + self.k3[i]));",
+    );
+    let out = cargo_test(&s.0, &[]);
+    assert!(out.status.success(), "{}", text(&out));
+}
+
+/// The harness takes libtest's flags: `--list`, a filter with `--exact`,
+/// `--test-threads`.
+#[test]
+fn libtest_flags_select_checks() {
+    let s = scratch("flags");
+    let out = cargo_test_with(&s.0, &["--", "--list"]);
+    let log = String::from_utf8_lossy(&out.stdout).to_string();
+    assert!(
+        out.status.success()
+            && log.contains("rk4/harmonic: test")
+            && log.contains("verlet/kepler: test"),
+        "{log}"
+    );
+    let out = cargo_test_with(
+        &s.0,
+        &["--", "--exact", "rk4/harmonic", "--test-threads", "1"],
+    );
+    let log = text(&out);
+    assert!(
+        out.status.success() && passed(&log, "rk4/harmonic"),
+        "{log}"
+    );
+    assert!(
+        log.contains("1 passed") && log.contains("16 filtered out"),
+        "{log}"
     );
 }

@@ -31,7 +31,7 @@ pub const FILE_NAME: &str = "drift-baseline.toml";
 pub const FORMAT: u32 = 1;
 
 /// The command that rewrites a baseline, named in error hints.
-const RECORD_HINT: &str = "re-record it with `cargo drift record`";
+const RECORD_HINT: &str = "re-record it with `DRIFT_RECORD=1 cargo test --test drift`";
 
 /// The header of the file: layout version, tool version and the environment
 /// the figures were measured in.
