@@ -54,6 +54,7 @@ pub mod problem;
 pub mod spec;
 pub mod special;
 pub mod stepper;
+mod textpos;
 
 pub use harness::Harness;
 pub use problem::{Invariant, ParamError, Problem};

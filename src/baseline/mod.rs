@@ -144,18 +144,6 @@ impl BaselineError {
     }
 }
 
-/// Line and column (1-based, columns in characters) of byte `offset` of `text`.
-fn position(text: &str, offset: usize) -> (usize, usize) {
-    let mut end = offset.min(text.len());
-    while !text.is_char_boundary(end) {
-        end -= 1;
-    }
-    let before = &text[..end];
-    let line = before.matches('\n').count() + 1;
-    let line_start = before.rfind('\n').map_or(0, |i| i + 1);
-    (line, before[line_start..].chars().count() + 1)
-}
-
 /// The whole baseline file.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Baseline {
@@ -194,7 +182,10 @@ impl Baseline {
     pub fn parse(text: &str, path: &Path) -> Result<Baseline, BaselineError> {
         let located = |l: Located, kind: ErrorKind, hint: String| BaselineError {
             path: path.to_path_buf(),
-            position: Some(position(text, l.span.map_or(0, |s| s.start))),
+            position: Some(crate::textpos::line_column(
+                text,
+                l.span.map_or(0, |s| s.start),
+            )),
             kind,
             message: l.message,
             hint,

@@ -79,14 +79,7 @@ impl Locator<'_> {
     /// Line and column (1-based, columns in characters) of byte `offset`,
     /// clamped to the text and to a character boundary.
     fn position(&self, offset: usize) -> (usize, usize) {
-        let mut offset = offset.min(self.text.len());
-        while !self.text.is_char_boundary(offset) {
-            offset -= 1;
-        }
-        let before = &self.text[..offset];
-        let line = before.matches('\n').count() + 1;
-        let line_start = before.rfind('\n').map_or(0, |i| i + 1);
-        (line, before[line_start..].chars().count() + 1)
+        crate::textpos::line_column(self.text, offset)
     }
 
     /// A toml syntax error or a serde error, with help. An unknown key is
