@@ -280,6 +280,8 @@ impl Harness {
             let summary = output::record(&baseline_path, shared.baseline.as_ref(), &outcomes)
                 .map_err(|e| HarnessError::Write(e.to_string()))?;
             eprintln!("{summary}");
+        } else if let Some(note) = output::notes(&baseline_path, &outcomes) {
+            eprintln!("{note}");
         }
         Ok(conclusion)
     }

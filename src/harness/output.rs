@@ -85,3 +85,36 @@ pub fn record(
     }
     Ok(line)
 }
+
+/// A reminder after a run when checks have no record yet or improved, naming
+/// them and the command that records them; `None` when there is nothing to say.
+pub fn notes(baseline: &Path, outcomes: &[CheckOutcome]) -> Option<String> {
+    let named = |v: &str| -> Vec<&str> {
+        outcomes
+            .iter()
+            .filter(|o| o.judgement.verdict.name() == v)
+            .map(|o| o.name.as_str())
+            .collect()
+    };
+    let (new, improved) = (named("new"), named("improved"));
+    let mut lines = Vec::new();
+    if !new.is_empty() {
+        lines.push(format!(
+            "drift: {} checks have no record in {} yet: {}",
+            new.len(),
+            baseline.display(),
+            new.join(", ")
+        ));
+    }
+    if !improved.is_empty() {
+        lines.push(format!(
+            "drift: {} checks improved on their record: {}",
+            improved.len(),
+            improved.join(", ")
+        ));
+    }
+    (!lines.is_empty()).then(|| {
+        lines.push("drift: record them with `DRIFT_RECORD=1 cargo test --test drift` and review the change".into());
+        lines.join("\n")
+    })
+}
