@@ -46,6 +46,7 @@
 pub mod atomic;
 pub mod baseline;
 pub mod claims;
+pub mod cli;
 pub mod env;
 pub mod harness;
 pub mod measure;
