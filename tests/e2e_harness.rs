@@ -3,70 +3,12 @@
 //! directory and tested with `cargo test` as its users would, with planted
 //! bugs in its steppers and in its declarations.
 
-use std::path::{Path, PathBuf};
+mod common;
+
+use std::path::Path;
 use std::process::{Command, Output};
 
-/// A scratch copy of the fixture, removed on drop.
-struct Scratch(PathBuf);
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_dir_all(&self.0);
-    }
-}
-
-fn ours() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn copy_dir(from: &Path, to: &Path) {
-    std::fs::create_dir_all(to).unwrap();
-    for entry in std::fs::read_dir(from).unwrap() {
-        let entry = entry.unwrap();
-        let dest = to.join(entry.file_name());
-        if entry.file_type().unwrap().is_dir() {
-            if entry.file_name() != "target" {
-                copy_dir(&entry.path(), &dest);
-            }
-        } else {
-            std::fs::copy(entry.path(), &dest).unwrap();
-        }
-    }
-}
-
-/// Copies the fixture to `target/e2e/<name>`, points its dependency at this
-/// checkout and pins the dependency versions to ours (no network needed).
-fn scratch(name: &str) -> Scratch {
-    let dir = ours().join("target").join("e2e").join(name);
-    let _ = std::fs::remove_dir_all(&dir);
-    copy_dir(&ours().join("fixtures/crane"), &dir);
-    // A package name of its own per scenario gives each its own build
-    // artefacts in the shared target directory.
-    let package = format!("name = \"harbour-crane-{name}\"");
-    edit(
-        &dir.join("Cargo.toml"),
-        "name = \"harbour-crane\"",
-        &package,
-    );
-    edit(
-        &dir.join("Cargo.toml"),
-        "path = \"../..\"",
-        &format!("path = {:?}", ours().display().to_string()),
-    );
-    std::fs::copy(ours().join("Cargo.lock"), dir.join("Cargo.lock")).unwrap();
-    Scratch(dir)
-}
-
-/// Replaces `from` (which must occur) by `to` in the file.
-fn edit(file: &Path, from: &str, to: &str) {
-    let text = std::fs::read_to_string(file).unwrap();
-    assert!(
-        text.contains(from),
-        "{} does not contain {from:?}",
-        file.display()
-    );
-    std::fs::write(file, text.replacen(from, to, 1)).unwrap();
-}
+use common::fixture::{edit, scratch, shared_target, text, ONE_AT_A_TIME};
 
 /// `cargo test --test drift` in `dir`, with a target directory shared by
 /// all scenarios (each is then an incremental build of the fixture only).
@@ -83,13 +25,12 @@ fn cargo_test_with(dir: &Path, args: &[&str]) -> Output {
 }
 
 fn run_cargo(dir: &Path, envs: &[(&str, &str)], args: &[&str]) -> Output {
-    static ONE_AT_A_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
     let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
     let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".into());
     let mut cmd = Command::new(cargo);
     cmd.args(["test", "--offline", "--test", "drift"])
         .current_dir(dir)
-        .env("CARGO_TARGET_DIR", ours().join("target").join("e2e-target"))
+        .env("CARGO_TARGET_DIR", shared_target())
         .env_remove("DRIFT_RECORD")
         .env_remove("DRIFT_MEASUREMENTS");
     cmd.args(args);
@@ -97,14 +38,6 @@ fn run_cargo(dir: &Path, envs: &[(&str, &str)], args: &[&str]) -> Output {
         cmd.env(k, v);
     }
     cmd.output().expect("cargo runs")
-}
-
-fn text(out: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    )
 }
 
 /// The failure block libtest-mimic prints for trial `name`.

@@ -1,8 +1,4 @@
-//! The `cargo drift` subcommand (command-line front end; see `drift::cli`).
-fn main() {
-    eprintln!(
-        "cargo-drift {}: the subcommand is not built yet; use the library through `cargo test`.",
-        env!("CARGO_PKG_VERSION")
-    );
-    std::process::exit(2);
+//! The `cargo drift` subcommand; everything lives in `drift::cli`.
+fn main() -> std::process::ExitCode {
+    std::process::ExitCode::from(drift::cli::main_with(std::env::args_os()))
 }

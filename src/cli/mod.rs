@@ -1,4 +1,55 @@
-//! The `cargo drift` subcommand: argument parsing, discovery of packages,
-//! building and running their harnesses, and the verbs.
+//! The `cargo drift` subcommand: argument parsing ([`args`]), discovery of
+//! packages ([`discover`]), building ([`build`]) and running ([`exec`]) their
+//! harnesses, the verbs ([`verbs`]), and the outputs ([`render`]). The
+//! binary only calls [`main_with`].
 
+pub mod args;
+pub mod build;
+pub mod discover;
+pub mod exec;
+pub mod init;
 pub mod model;
+pub mod progress;
+pub mod render;
+pub mod verbs;
+
+use std::ffi::OsString;
+
+use clap::Parser;
+
+use args::{CargoCli, Filtered, Verb};
+use model::exit;
+
+/// Runs `cargo drift` with `argv` (as cargo passes it: `cargo-drift drift
+/// ...`) and returns the exit code.
+pub fn main_with(argv: impl IntoIterator<Item = OsString>) -> u8 {
+    let CargoCli::Drift(args) = match CargoCli::try_parse_from(argv) {
+        Ok(a) => a,
+        Err(e) => {
+            let _ = e.print();
+            return if e.use_stderr() {
+                exit::CONFIG
+            } else {
+                exit::PASS
+            };
+        }
+    };
+    let default = Filtered {
+        filter: args.filter.clone(),
+        exact: false,
+    };
+    let result = match &args.verb {
+        None => verbs::run_verb(&args.common, &default),
+        Some(Verb::Run(f)) => verbs::run_verb(&args.common, f),
+        Some(Verb::Record(f)) => verbs::record_verb(&args.common, f),
+        Some(Verb::List(f)) => verbs::list_verb(&args.common, f),
+        Some(Verb::Init(i)) => verbs::init_verb(&args.common, i),
+    };
+    match result {
+        Ok(code) => code,
+        Err(verbs::Fatal(msg)) => {
+            eprintln!("error: {msg}");
+            exit::CONFIG
+        }
+    }
+}

@@ -77,7 +77,7 @@ pub struct HarnessReport {
 #[derive(Clone, Debug, PartialEq)]
 pub enum PackageOutcome {
     /// The harness ran and reported.
-    Checked(HarnessReport),
+    Checked(Box<HarnessReport>),
     /// Its harness did not build (cargo's diagnostics were shown).
     BuildFailed(String),
     /// Its harness crashed or produced no report.

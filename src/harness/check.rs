@@ -66,13 +66,6 @@ fn target(shared: &Shared, plan: &Plan) -> Result<Target, String> {
     }
 }
 
-fn problem_name(plan: &Plan) -> String {
-    match &plan.problem {
-        PlanProblem::Builtin { info, .. } => info.name.to_string(),
-        PlanProblem::User(name) => name.clone(),
-    }
-}
-
 /// Measures and judges one plan.
 pub(crate) fn run_plan(shared: &Shared, plan: &Plan) -> CheckOutcome {
     let recorded = shared
@@ -107,7 +100,7 @@ pub(crate) fn run_plan(shared: &Shared, plan: &Plan) -> CheckOutcome {
     CheckOutcome {
         name: plan.name.clone(),
         stepper: plan.stepper.clone(),
-        problem: problem_name(plan),
+        problem: plan.problem.name().to_string(),
         record,
         judgement,
     }

@@ -8,6 +8,8 @@
 //!   (checks left out by a filter keep their records byte for byte).
 //! - [`ENV_MEASUREMENTS`] (`DRIFT_MEASUREMENTS=path`): also write every
 //!   check's figures and verdict as versioned JSON ([`output`]).
+//! - [`ENV_PLAN`] (`DRIFT_PLAN=path`): write the planned checks (stepper,
+//!   problem, ladder, whether recorded) as JSON and measure nothing.
 //!
 //! The parts: [`check`] runs one plan; [`output`] is the JSON document and
 //! the record-mode merge.
@@ -35,6 +37,12 @@ use check::CheckOutcome;
 pub const ENV_RECORD: &str = "DRIFT_RECORD";
 /// A path: write the measurements of every check run there as JSON.
 pub const ENV_MEASUREMENTS: &str = "DRIFT_MEASUREMENTS";
+/// A path: write the planned checks there as JSON and run none of them.
+pub const ENV_PLAN: &str = "DRIFT_PLAN";
+/// The declaration file to read instead of `drift.toml` at the package root
+/// (relative to the root); `cargo drift` sets it from
+/// `[package.metadata.drift] file = "..."`.
+pub const ENV_FILE: &str = "DRIFT_FILE";
 
 /// The problem a check runs on.
 pub enum Target {
@@ -242,13 +250,35 @@ impl Harness {
     pub fn run(self, args: &Arguments) -> Result<Conclusion, HarnessError> {
         let catalog = self.catalog()?;
         let root = self.package_root();
-        let spec = Spec::load(&root.join("drift.toml"), &catalog).map_err(HarnessError::Spec)?;
+        let file = std::env::var_os(ENV_FILE)
+            .filter(|v| !v.is_empty())
+            .map_or_else(|| "drift.toml".into(), PathBuf::from);
+        let spec = Spec::load(&root.join(file), &catalog).map_err(HarnessError::Spec)?;
         let baseline_path = spec.baseline_path(&root);
         let baseline = Baseline::load(&baseline_path).map_err(HarnessError::Baseline)?;
         let record = std::env::var(ENV_RECORD).is_ok_and(|v| !v.is_empty() && v != "0");
         let json = std::env::var_os(ENV_MEASUREMENTS)
             .filter(|v| !v.is_empty())
             .map(PathBuf::from);
+        if let Some(path) = std::env::var_os(ENV_PLAN)
+            .filter(|v| !v.is_empty())
+            .map(PathBuf::from)
+        {
+            let plans = spec.plans();
+            write_json(
+                &path,
+                &output::plan_document(&plans, baseline.as_ref(), &baseline_path),
+            )?;
+            let listing = Arguments {
+                list: true,
+                ..args.clone()
+            };
+            let trials = plans
+                .into_iter()
+                .map(|p| Trial::test(p.name, || Ok(())))
+                .collect();
+            return Ok(libtest_mimic::run(&listing, trials));
+        }
 
         let shared = Arc::new(check::Shared {
             methods: self.methods,
@@ -274,7 +304,7 @@ impl Harness {
             std::mem::take(&mut *shared.outcomes.lock().unwrap_or_else(|e| e.into_inner()));
         outcomes.sort_by(|a, b| a.name.cmp(&b.name));
         if let Some(path) = json {
-            write_json(&path, &outcomes)?;
+            write_json(&path, &output::document(&outcomes))?;
         }
         if record {
             let summary = output::record(&baseline_path, shared.baseline.as_ref(), &outcomes)
@@ -287,10 +317,8 @@ impl Harness {
     }
 }
 
-fn write_json(path: &Path, outcomes: &[CheckOutcome]) -> Result<(), HarnessError> {
-    let doc = output::document(outcomes);
-    let text =
-        serde_json::to_string_pretty(&doc).map_err(|e| HarnessError::Write(e.to_string()))?;
+fn write_json(path: &Path, doc: &serde_json::Value) -> Result<(), HarnessError> {
+    let text = serde_json::to_string_pretty(doc).map_err(|e| HarnessError::Write(e.to_string()))?;
     crate::atomic::write_atomic(path, text.as_bytes())
         .map_err(|e| HarnessError::Write(format!("{}: {e}", path.display())))
 }

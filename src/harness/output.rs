@@ -18,7 +18,9 @@ use std::path::Path;
 
 use serde_json::{json, Value};
 
-use crate::baseline::{Baseline, BaselineError, Header, Verdict};
+use crate::baseline::{Baseline, BaselineError, Header, LadderRecord, Verdict};
+use crate::measure::Ladder;
+use crate::spec::Plan;
 
 use super::check::CheckOutcome;
 
@@ -117,4 +119,41 @@ pub fn notes(baseline: &Path, outcomes: &[CheckOutcome]) -> Option<String> {
         lines.push("drift: record them with `DRIFT_RECORD=1 cargo test --test drift` and review the change".into());
         lines.join("\n")
     })
+}
+
+/// The JSON document of the planned checks (`DRIFT_PLAN`), format 1:
+/// `{ "format": 1, "baseline": path, "checks": [ { "name", "stepper", "kind", "problem",
+/// "ladder", "recorded" } ] }`, where `ladder` describes what will run (the
+/// recorded ladder repeats when the plan's is automatic) and `recorded` says
+/// whether the baseline has the check.
+pub fn plan_document(plans: &[Plan], baseline: Option<&Baseline>, baseline_path: &Path) -> Value {
+    let checks: Vec<Value> = plans
+        .iter()
+        .map(|p| {
+            let recorded = baseline.and_then(|b| b.checks.get(&p.name));
+            let ladder = match (&p.config.ladder, recorded.map(|r| &r.ladder)) {
+                (Ladder::Auto { .. }, Some(LadderRecord::Steps(s))) => {
+                    describe_steps("recorded", s)
+                }
+                (Ladder::Auto { start, .. }, _) => {
+                    format!("automatic from {start} steps per period")
+                }
+                (Ladder::Steps(s), _) => describe_steps("fixed", s),
+                (Ladder::Tolerances(t), _) => match (t.first(), t.last()) {
+                    (Some(a), Some(b)) => format!("{} tolerances {a:e} .. {b:e}", t.len()),
+                    _ => "no tolerances".to_string(),
+                },
+            };
+            json!({ "name": p.name, "stepper": p.stepper, "kind": p.kind.name(),
+                    "problem": p.problem.name(), "ladder": ladder, "recorded": recorded.is_some() })
+        })
+        .collect();
+    json!({ "format": JSON_FORMAT, "baseline": baseline_path, "checks": checks })
+}
+
+fn describe_steps(what: &str, steps: &[u64]) -> String {
+    match (steps.first(), steps.last()) {
+        (Some(a), Some(b)) => format!("{what}: {} rungs, {a} .. {b} steps per period", steps.len()),
+        _ => format!("{what}: empty"),
+    }
 }

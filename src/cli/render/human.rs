@@ -1,0 +1,83 @@
+//! The verdict table for people: one line per check, the figures that moved
+//! under a failing check, a count at the end; no line over 80 columns.
+
+use std::collections::BTreeMap;
+
+use super::super::model::{PackageOutcome, PackageRun};
+use super::{clip, color, figure, headline, rows_table, PASS_MEANS};
+
+/// The table of `runs`, coloured when `on`.
+pub fn verdict_table(runs: &[PackageRun], on: bool) -> String {
+    let mut out = String::new();
+    let mut counts: BTreeMap<String, usize> = BTreeMap::new();
+    for run in runs {
+        out.push_str(&color::bold(
+            &clip(&format!("{}  ({})", run.package, run.root.display()), 80),
+            on,
+        ));
+        out.push('\n');
+        match &run.outcome {
+            PackageOutcome::Checked(report) => {
+                if report.checks.is_empty() {
+                    out.push_str("  no check matched\n");
+                }
+                for c in &report.checks {
+                    *counts.entry(c.verdict.clone()).or_default() += 1;
+                    let word = color::verdict(&format!("{:<14}", c.verdict), &c.verdict, on);
+                    let figures = format!(
+                        "order {:>5}  best {:>5}",
+                        figure(headline(c, "order")),
+                        figure(headline(c, "best_digits"))
+                    );
+                    out.push_str(&format!("  {word} {:<34} {figures}\n", clip(&c.name, 34)));
+                    if let Some(e) = &c.error {
+                        out.push_str(&format!("      {}\n", clip(e, 74)));
+                    }
+                    if c.fails() && !c.rows.is_empty() {
+                        for line in rows_table(&c.rows) {
+                            out.push_str(&format!("    {line}\n"));
+                        }
+                    }
+                }
+            }
+            other => {
+                *counts.entry(other.status().to_string()).or_default() += 1;
+                out.push_str(&format!(
+                    "  {}\n",
+                    color::verdict(other.status(), "error", on)
+                ));
+                for line in other.message().unwrap_or_default().lines() {
+                    out.push_str(&format!("    {}\n", clip(line, 76)));
+                }
+            }
+        }
+    }
+    let tally: Vec<String> = counts.iter().map(|(k, n)| format!("{n} {k}")).collect();
+    out.push_str(&format!(
+        "\n{} in {} package(s)\n",
+        tally.join(", "),
+        runs.len()
+    ));
+    for line in wrap(PASS_MEANS, 80) {
+        out.push_str(&line);
+        out.push('\n');
+    }
+    out
+}
+
+/// Words of `text` in lines of at most `width` characters.
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = vec![String::new()];
+    for word in text.split_whitespace() {
+        let last = lines.last_mut().expect("one line");
+        if !last.is_empty() && last.len() + 1 + word.len() > width {
+            lines.push(word.to_string());
+        } else {
+            if !last.is_empty() {
+                last.push(' ');
+            }
+            last.push_str(word);
+        }
+    }
+    lines
+}

@@ -1,0 +1,87 @@
+//! Scratch copies of the demo crate `fixtures/crane` for end-to-end tests:
+//! copied under `target/e2e/`, pointed at this checkout, pinned to our
+//! `Cargo.lock` so no network is needed, removed on drop.
+
+use std::path::{Path, PathBuf};
+use std::process::Output;
+
+/// A scratch copy of the fixture, removed on drop.
+pub struct Scratch(pub PathBuf);
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+pub fn ours() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+pub fn copy_dir(from: &Path, to: &Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for entry in std::fs::read_dir(from).unwrap() {
+        let entry = entry.unwrap();
+        let dest = to.join(entry.file_name());
+        if entry.file_type().unwrap().is_dir() {
+            if entry.file_name() != "target" {
+                copy_dir(&entry.path(), &dest);
+            }
+        } else {
+            std::fs::copy(entry.path(), &dest).unwrap();
+        }
+    }
+}
+
+/// Copies the fixture to `target/e2e/<name>`, points its dependency at this
+/// checkout and pins the dependency versions to ours (no network needed).
+pub fn scratch(name: &str) -> Scratch {
+    let dir = ours().join("target").join("e2e").join(name);
+    let _ = std::fs::remove_dir_all(&dir);
+    copy_dir(&ours().join("fixtures/crane"), &dir);
+    // A package name of its own per scenario gives each its own build
+    // artefacts in the shared target directory.
+    let package = format!("name = \"harbour-crane-{name}\"");
+    edit(
+        &dir.join("Cargo.toml"),
+        "name = \"harbour-crane\"",
+        &package,
+    );
+    edit(
+        &dir.join("Cargo.toml"),
+        "path = \"../..\"",
+        &format!("path = {:?}", ours().display().to_string()),
+    );
+    std::fs::copy(ours().join("Cargo.lock"), dir.join("Cargo.lock")).unwrap();
+    Scratch(dir)
+}
+
+/// Replaces `from` (which must occur) by `to` in the file.
+pub fn edit(file: &Path, from: &str, to: &str) {
+    let text = std::fs::read_to_string(file).unwrap();
+    assert!(
+        text.contains(from),
+        "{} does not contain {from:?}",
+        file.display()
+    );
+    std::fs::write(file, text.replacen(from, to, 1)).unwrap();
+}
+
+/// Standard output and standard error of a finished command, together.
+pub fn text(out: &Output) -> String {
+    format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    )
+}
+
+/// A mutex that end-to-end scenarios hold while they run cargo, so that two
+/// cargo processes do not contend for the shared target directory and each
+/// log is its own.
+pub static ONE_AT_A_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+/// The target directory all end-to-end builds share.
+pub fn shared_target() -> PathBuf {
+    ours().join("target").join("e2e-target")
+}
