@@ -253,3 +253,18 @@ fn usage_error_exits_2() {
         .unwrap();
     assert_eq!(code(&out), 2);
 }
+
+#[test]
+fn hung_harness_is_stopped_at_the_time_limit_and_exits_3() {
+    let s = scratch("cli-hang");
+    edit(
+        &s.0.join("tests/drift.rs"),
+        "fn main() {",
+        "fn main() {\n    std::thread::sleep(std::time::Duration::from_secs(600));",
+    );
+    let started = std::time::Instant::now();
+    let out = drift(&s.0, &["--timeout", "3"]);
+    assert_eq!(code(&out), 3, "{}", text(&out));
+    assert!(text(&out).contains("timed-out"), "{}", text(&out));
+    assert!(started.elapsed().as_secs() < 300, "the limit stopped it");
+}
