@@ -131,7 +131,7 @@ const VALUE_WIDTH: usize = 8;
 const LIMIT_WIDTH: usize = 20;
 
 /// `s` cut to `width` characters, a cut marked with `~`.
-fn clip(s: &str, width: usize) -> String {
+pub(crate) fn clip(s: &str, width: usize) -> String {
     if s.chars().count() <= width {
         s.to_string()
     } else {

@@ -24,16 +24,7 @@ pub(crate) fn headline(check: &CheckResult, key: &str) -> Option<f64> {
         .and_then(|v| v.as_f64())
 }
 
-/// `s` cut to `width` characters, a cut marked with `~`.
-pub(crate) fn clip(s: &str, width: usize) -> String {
-    if s.chars().count() <= width {
-        s.to_string()
-    } else {
-        let mut out: String = s.chars().take(width.saturating_sub(1)).collect();
-        out.push('~');
-        out
-    }
-}
+pub(crate) use crate::baseline::judge::clip;
 
 /// The rows of a check as fixed-width text lines (at most 76 columns before
 /// any indent): figure, recorded, measured, limit, status.
