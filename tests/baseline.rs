@@ -82,6 +82,7 @@ fn measurement() -> Measurement {
             periods: 1000.0,
             drift_forward: vec![Some(drift(0.01))],
             drift_backward: vec![Some(drift(0.02))],
+            envelopes: vec![],
             period: Some(PeriodReport {
                 measured: 1.0,
                 exact: Some(1.0),

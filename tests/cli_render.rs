@@ -18,6 +18,9 @@ fn check(name: &str, verdict: &str, rows: Vec<Row>) -> CheckResult {
         error: None,
         rows,
         figures: Some(serde_json::json!({ "order": 4.0, "best_digits": 13.5 })),
+        claimed: Default::default(),
+        claims: vec![],
+        detail: None,
     }
 }
 

@@ -417,6 +417,33 @@ fn check_claims(now: &CheckRecord, claims: &Claims, rows: &mut Rows) {
     }
 }
 
+/// Every claim row of `now` against `claims`, holding or not (a report
+/// lists them all; a judgement shows only the violated ones).
+///
+/// ```
+/// use drift::baseline::{claim_rows, CheckRecord, LadderRecord, RowStatus};
+/// use drift::claims::Claims;
+/// use drift::measure::{Basis, MethodKind};
+/// use drift::metrics::{OrderFit, RungClass};
+/// let r = CheckRecord {
+///     kind: MethodKind::Fixed, basis: Basis::Exact,
+///     ladder: LadderRecord::Steps(vec![16, 32]), digits: vec![Some(2.0), Some(3.2)],
+///     classes: vec![RungClass::Fitted; 2],
+///     fit: Some(OrderFit { order: 3.99, residual: 0.0, first: 0, last: 1 }),
+///     best: None, plateau_from: None, floor_from: None, evals_per_step: 4.0,
+///     invariants: Default::default(), period_digits: None, virial_digits: None,
+///     reversibility_digits: None, diverged_at: None,
+/// };
+/// let rows = claim_rows(&r, &Claims { order: Some(4.0), ..Claims::default() });
+/// assert_eq!(rows.len(), 1);
+/// assert_eq!(rows[0].status, RowStatus::Ok);
+/// ```
+pub fn claim_rows(now: &CheckRecord, claims: &Claims) -> Vec<MetricRow> {
+    let mut rows = Rows::default();
+    check_claims(now, claims, &mut rows);
+    rows.0.into_iter().map(|(r, _)| r).collect()
+}
+
 /// Judges the record of a check now against its baseline record (if any),
 /// the stepper's claims and the slack (DEVELOPERS.md, "Baseline file
 /// format", gives the rules).

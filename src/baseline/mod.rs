@@ -11,7 +11,7 @@ mod file;
 pub mod judge;
 pub mod record;
 
-pub use judge::{judge, Judgement, MetricRow, RowStatus, Verdict};
+pub use judge::{claim_rows, judge, Judgement, MetricRow, RowStatus, Verdict};
 pub use record::{round_figure, CheckRecord, DriftRecord, InvariantRecord, LadderRecord, DECIMALS};
 
 use std::collections::BTreeMap;
@@ -287,5 +287,25 @@ impl Baseline {
 impl Serialize for CheckRecord {
     fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
         RawCheck::from(self).serialize(serializer)
+    }
+}
+
+/// Reads the figures of a check back from the same keys (a harness's JSON
+/// document carries them), checked as a baseline table is.
+///
+/// ```
+/// use drift::baseline::CheckRecord;
+/// let text = r#"{ "kind": "stepper", "basis": "exact", "steps_per_unit": [16, 32],
+///     "digits": [2.0, 3.2], "classes": ["fit", "fit"], "order": 3.99,
+///     "order_residual": 0.0, "fit_from": 0, "fit_to": 1, "evals_per_step": 4.0 }"#;
+/// let r: CheckRecord = serde_json::from_str(text).unwrap();
+/// assert_eq!(r.fit.unwrap().order, 3.99);
+/// assert!(serde_json::from_str::<CheckRecord>(r#"{ "kind": "stepper" }"#).is_err());
+/// ```
+impl<'de> serde::Deserialize<'de> for CheckRecord {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        RawCheck::deserialize(deserializer)?
+            .into_record()
+            .map_err(serde::de::Error::custom)
     }
 }

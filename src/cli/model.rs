@@ -7,6 +7,8 @@ use std::path::PathBuf;
 use serde::{Deserialize, Serialize};
 
 use crate::baseline::Header;
+use crate::claims::Claims;
+use crate::harness::detail::Detail;
 
 /// One row of a check's table, as the harness wrote it.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -40,6 +42,15 @@ pub struct CheckResult {
     pub rows: Vec<Row>,
     /// Every figure (the baseline record's keys), when measured.
     pub figures: Option<serde_json::Value>,
+    /// The stepper's claims from drift.toml.
+    #[serde(default)]
+    pub claimed: Claims,
+    /// Every claim row, holding or not.
+    #[serde(default)]
+    pub claims: Vec<Row>,
+    /// The measurement behind the figures.
+    #[serde(default)]
+    pub detail: Option<Detail>,
 }
 
 impl CheckResult {
@@ -47,7 +58,8 @@ impl CheckResult {
     ///
     /// ```
     /// let mut c = drift::cli::model::CheckResult { name: "a/b".into(), stepper: "a".into(),
-    ///     problem: "b".into(), verdict: "new".into(), error: None, rows: vec![], figures: None };
+    ///     problem: "b".into(), verdict: "new".into(), error: None, rows: vec![], figures: None,
+    ///     claimed: Default::default(), claims: vec![], detail: None };
     /// assert!(!c.fails());
     /// c.verdict = "regressed".into();
     /// assert!(c.fails());

@@ -6,12 +6,15 @@ use std::sync::{Arc, Mutex};
 
 use libtest_mimic::Failed;
 
-use crate::baseline::{judge, Baseline, CheckRecord, Judgement, LadderRecord, Verdict};
-use crate::claims::Slack;
+use crate::baseline::{
+    claim_rows, judge, Baseline, CheckRecord, Judgement, LadderRecord, MetricRow, Verdict,
+};
+use crate::claims::{Claims, Slack};
 use crate::measure::{Config, Ladder};
 use crate::problem::Problem;
 use crate::spec::{Plan, PlanProblem};
 
+use super::detail::Detail;
 use super::{Registered, Target};
 
 /// What every trial shares.
@@ -37,6 +40,12 @@ pub struct CheckOutcome {
     pub record: Option<CheckRecord>,
     /// Verdict and the rows worth showing.
     pub judgement: Judgement,
+    /// What the stepper's author claims.
+    pub claimed: Claims,
+    /// Every claim of the stepper against this check, holding or not.
+    pub claims: Vec<MetricRow>,
+    /// The measurement behind the figures (none when it failed).
+    pub detail: Option<Detail>,
 }
 
 /// The ladder a check runs: the baseline's stored ladder when the plan's is
@@ -79,15 +88,25 @@ pub(crate) fn run_plan(shared: &Shared, plan: &Plan) -> CheckOutcome {
         .ok_or_else(|| format!("no stepper `{}` is registered", plan.stepper))
         .and_then(|method| {
             let target = target(shared, plan)?;
-            method
-                .measure(&target, &ladder_for(plan, recorded))
-                .map_err(|e| e.to_string())
+            let config = ladder_for(plan, recorded);
+            let m = method
+                .measure(&target, &config)
+                .map_err(|e| e.to_string())?;
+            let problem = target.problem();
+            let detail = Detail::of(
+                &m,
+                config.periods,
+                problem.time_unit(),
+                problem.period().is_some(),
+            );
+            Ok((m, detail))
         });
-    let (record, judgement) = match measured {
-        Ok(m) => {
+    let (record, judgement, claims, detail) = match measured {
+        Ok((m, detail)) => {
             let record = CheckRecord::from_measurement(&m);
             let judgement = judge(&record, recorded, &plan.claims, &shared.slack);
-            (Some(record), judgement)
+            let claims = claim_rows(&record, &plan.claims);
+            (Some(record), judgement, claims, Some(detail))
         }
         Err(e) => (
             None,
@@ -95,6 +114,8 @@ pub(crate) fn run_plan(shared: &Shared, plan: &Plan) -> CheckOutcome {
                 verdict: Verdict::Error(e),
                 rows: Vec::new(),
             },
+            Vec::new(),
+            None,
         ),
     };
     CheckOutcome {
@@ -103,6 +124,9 @@ pub(crate) fn run_plan(shared: &Shared, plan: &Plan) -> CheckOutcome {
         problem: plan.problem.name().to_string(),
         record,
         judgement,
+        claimed: plan.claims.clone(),
+        claims,
+        detail,
     }
 }
 

@@ -15,6 +15,7 @@
 //! the record-mode merge.
 
 pub mod check;
+pub mod detail;
 pub mod output;
 
 use std::path::{Path, PathBuf};
@@ -50,6 +51,16 @@ pub enum Target {
     Builtin(Builtin),
     /// A problem registered with [`Harness::problem`].
     User(Arc<dyn Problem>),
+}
+
+impl Target {
+    /// The problem itself.
+    pub fn problem(&self) -> &dyn Problem {
+        match self {
+            Target::Builtin(b) => b.as_problem(),
+            Target::User(p) => p.as_ref(),
+        }
+    }
 }
 
 type Runner = dyn Fn(&Target, &Config) -> Result<Measurement, MeasureError> + Send + Sync;

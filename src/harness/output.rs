@@ -10,7 +10,14 @@
 //!                 "verdict": "pass" | "improved" | "new" | "regressed" | "claim-violated" | "error",
 //!                 "error": null | "message",
 //!                 "rows": [ { "metric", "baseline", "now", "allowed", "status" } ],
-//!                 "figures": null | { same keys as a [check."..."] table of the baseline } } ] }
+//!                 "claimed": { "order"?, "energy"?, "reversible"?, "floor"? } (drift.toml),
+//!                 "claims": [ rows as above, one per claim of the stepper, holding or not ],
+//!                 "figures": null | { same keys as a [check."..."] table of the baseline },
+//!                 "detail": null | { "horizon", "periodic", "invariants": [names],
+//!                     "rungs": [ { "steps_per_unit" | "tolerance", "steps", "evals", "rejected",
+//!                                  "digits", "invariant_digits": [..] } ],
+//!                     "long_run": null | { "steps_per_unit", "periods",
+//!                                          "series": [ { "name", "t": [..], "error": [..] } ] } } } ] }
 //! ```
 
 use std::collections::BTreeMap;
@@ -18,7 +25,7 @@ use std::path::Path;
 
 use serde_json::{json, Value};
 
-use crate::baseline::{Baseline, BaselineError, Header, LadderRecord, Verdict};
+use crate::baseline::{Baseline, BaselineError, Header, LadderRecord, MetricRow, Verdict};
 use crate::measure::Ladder;
 use crate::spec::Plan;
 
@@ -32,22 +39,23 @@ pub fn document(outcomes: &[CheckOutcome]) -> Value {
     let checks: Vec<Value> = outcomes
         .iter()
         .map(|o| {
-            let rows: Vec<Value> = o
-                .judgement
-                .rows
-                .iter()
-                .map(|r| {
-                    json!({ "metric": r.metric, "baseline": r.baseline, "now": r.now,
-                            "allowed": r.allowed, "status": r.status.name() })
-                })
-                .collect();
+            let rows = |rows: &[MetricRow]| -> Vec<Value> {
+                rows.iter()
+                    .map(|r| {
+                        json!({ "metric": r.metric, "baseline": r.baseline, "now": r.now,
+                                "allowed": r.allowed, "status": r.status.name() })
+                    })
+                    .collect()
+            };
             let error = match &o.judgement.verdict {
                 Verdict::Error(e) => Some(e.clone()),
                 _ => None,
             };
             json!({ "name": o.name, "stepper": o.stepper, "problem": o.problem,
-                    "verdict": o.judgement.verdict.name(), "error": error, "rows": rows,
-                    "figures": o.record })
+                    "verdict": o.judgement.verdict.name(), "error": error,
+                    "rows": rows(&o.judgement.rows), "claimed": o.claimed,
+                    "claims": rows(&o.claims),
+                    "figures": o.record, "detail": o.detail })
         })
         .collect();
     json!({ "format": JSON_FORMAT, "tool": env!("CARGO_PKG_VERSION"), "environment": Header::current(), "checks": checks })

@@ -25,6 +25,74 @@ pub struct PeriodReport {
     pub crossings: usize,
 }
 
+/// The error of one invariant over the forward long run, thinned for
+/// plotting: the largest error in each of at most [`ENVELOPE_BINS`]
+/// logarithmically spaced time bins, with the time it occurred.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Envelope {
+    /// Elapsed times (time units of the problem's clock), increasing.
+    pub t: Vec<f64>,
+    /// Relative invariant error at those times.
+    pub error: Vec<f64>,
+}
+
+/// Most points of an [`Envelope`]: enough for a smooth curve on a log time
+/// axis, small enough for a report.
+pub const ENVELOPE_BINS: usize = 160;
+
+impl Envelope {
+    /// The envelope of errors `err[i]` at increasing positive times `t[i]`:
+    /// per logarithmic time bin, the sample with the largest error (so a
+    /// bounded oscillation keeps its peaks and a growth keeps its shape).
+    ///
+    /// ```
+    /// use drift::measure::long_run::{Envelope, ENVELOPE_BINS};
+    /// let t: Vec<f64> = (1..=100_000).map(|i| i as f64).collect();
+    /// let e: Vec<f64> = t.iter().map(|t| 1e-12 * t).collect();
+    /// let env = Envelope::of(&t, &e);
+    /// assert!(env.t.len() <= ENVELOPE_BINS && env.t.len() > 100);
+    /// assert_eq!(env.error.last(), Some(&1e-7));
+    /// ```
+    pub fn of(t: &[f64], err: &[f64]) -> Envelope {
+        let n = t.len().min(err.len());
+        let (Some(&first), Some(&last)) = (t.first(), t.get(n.wrapping_sub(1))) else {
+            return Envelope::default();
+        };
+        if n <= ENVELOPE_BINS || !(first > 0.0) || !(last > first) {
+            return Envelope {
+                t: t[..n].to_vec(),
+                error: err[..n].to_vec(),
+            };
+        }
+        let span = (last / first).ln();
+        let mut out = Envelope::default();
+        let mut current: Option<(usize, f64, f64)> = None;
+        for (&ti, &ei) in t[..n].iter().zip(err) {
+            let frac = (ti / first).ln() / span;
+            let bin = ((frac * ENVELOPE_BINS as f64) as usize).min(ENVELOPE_BINS - 1);
+            match current {
+                Some((b, _, worst)) if b == bin => {
+                    if ei > worst {
+                        current = Some((bin, ti, ei));
+                    }
+                }
+                _ => {
+                    if let Some((_, tb, eb)) = current {
+                        out.t.push(tb);
+                        out.error.push(eb);
+                    }
+                    current = Some((bin, ti, ei));
+                }
+            }
+        }
+        if let Some((_, tb, eb)) = current {
+            out.t.push(tb);
+            out.error.push(eb);
+        }
+        out
+    }
+}
+
 /// What the long run measured.
 #[derive(Clone, Debug, PartialEq)]
 pub struct LongRunReport {
@@ -36,6 +104,8 @@ pub struct LongRunReport {
     pub drift_forward: Vec<Option<DriftFit>>,
     /// Drift fit of each invariant, backward in time.
     pub drift_backward: Vec<Option<DriftFit>>,
+    /// Error of each invariant against time, forward, thinned for plots.
+    pub envelopes: Vec<Envelope>,
     /// The period, when the problem has one and two crossings were seen.
     pub period: Option<PeriodReport>,
     /// Digits of the virial residual, when the problem has virial terms.
@@ -47,6 +117,7 @@ pub struct LongRunReport {
 /// Raw results of one direction of the long run.
 struct Pass {
     drift: Vec<Option<DriftFit>>,
+    envelopes: Vec<Envelope>,
     crossings: Vec<f64>,
     virial: Option<(f64, f64)>,
     diverged_at: Option<f64>,
@@ -189,6 +260,11 @@ fn pass<M: Method, P: Problem + ?Sized>(
         }
     }
     let drift = errs.iter().map(|e| drift_fit(&times, e)).collect();
+    let envelopes = if forward {
+        errs.iter().map(|e| Envelope::of(&times, e)).collect()
+    } else {
+        Vec::new()
+    };
     let virial = if diverged_at.is_none() {
         virial.map(|(a, b)| (a / g.total as f64, b / g.total as f64))
     } else {
@@ -196,6 +272,7 @@ fn pass<M: Method, P: Problem + ?Sized>(
     };
     Ok(Pass {
         drift,
+        envelopes,
         crossings,
         virial,
         diverged_at,
@@ -228,6 +305,7 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
         periods,
         drift_forward: fwd.drift,
         drift_backward: bwd.drift,
+        envelopes: fwd.envelopes,
         period,
         virial_digits: fwd
             .virial

@@ -12,7 +12,7 @@ pub mod long_run;
 pub mod method;
 
 pub use ladder::{Basis, Resolution, Rung};
-pub use long_run::{LongRunReport, PeriodReport};
+pub use long_run::{Envelope, LongRunReport, PeriodReport};
 pub use method::{Counted, Fixed, Method, MethodKind, Split, Whole};
 
 use crate::metrics::{DriftFit, SeriesAnalysis};
