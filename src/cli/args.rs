@@ -56,6 +56,21 @@ pub enum Verb {
     List(Filtered),
     /// Set up a package: tests/drift.rs, drift.toml and the [[test]] entry.
     Init(InitArgs),
+    /// Measure every check and write a certificate of each stepper: an HTML
+    /// page, a Markdown page with SVG plots, and JSON.
+    Report(ReportArgs),
+}
+
+/// Options of `report`.
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    /// Directory to write the report into (default: drift-report in the
+    /// target directory). An earlier report there is replaced whole.
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Which checks.
+    #[command(flatten)]
+    pub filter: Filtered,
 }
 
 /// A verb that takes a check-name filter.

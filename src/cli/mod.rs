@@ -1,6 +1,7 @@
 //! The `cargo drift` subcommand: argument parsing ([`args`]), discovery of
 //! packages ([`discover`]), building ([`build`]) and running ([`exec`]) their
-//! harnesses, the verbs ([`verbs`]), and the outputs ([`render`]). The
+//! harnesses, the verbs ([`verbs`]), the outputs ([`render`]) and the
+//! certificate ([`report`]). The
 //! binary only calls [`main_with`].
 
 pub mod args;
@@ -11,6 +12,7 @@ pub mod init;
 pub mod model;
 pub mod progress;
 pub mod render;
+pub mod report;
 pub mod verbs;
 
 use std::ffi::OsString;
@@ -44,6 +46,7 @@ pub fn main_with(argv: impl IntoIterator<Item = OsString>) -> u8 {
         Some(Verb::Record(f)) => verbs::record_verb(&args.common, f),
         Some(Verb::List(f)) => verbs::list_verb(&args.common, f),
         Some(Verb::Init(i)) => verbs::init_verb(&args.common, i),
+        Some(Verb::Report(r)) => verbs::report_verb(&args.common, r),
     };
     match result {
         Ok(code) => code,

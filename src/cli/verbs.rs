@@ -1,4 +1,4 @@
-//! The verbs: `run` (the default), `record`, `list` and `init`, each from
+//! The verbs: `run` (the default), `record`, `list`, `report` and `init`, each from
 //! discovered packages to what it prints and its exit code.
 
 use std::io::IsTerminal;
@@ -7,7 +7,7 @@ use std::time::Duration;
 
 use similar::{ChangeTag, TextDiff};
 
-use super::args::{Common, Filtered, Format, InitArgs};
+use super::args::{Common, Filtered, Format, InitArgs, ReportArgs};
 use super::build::build;
 use super::discover::{discover, init_manifest, metadata, Found};
 use super::exec::{parse_report, run, Invocation, Mode, Ran};
@@ -291,4 +291,34 @@ pub fn init_verb(common: &Common, args: &InitArgs) -> Result<u8, Fatal> {
         println!("  {step}");
     }
     Ok(exit::PASS)
+}
+
+/// `cargo drift report`: measures like `run`, writes the report directory
+/// whole, and exits as `run` would.
+pub fn report_verb(common: &Common, args: &ReportArgs) -> Result<u8, Fatal> {
+    use super::report;
+    let meta = metadata(common).map_err(|e| Fatal(e.to_string()))?;
+    let pkgs = discover(&meta, common).map_err(|e| Fatal(e.to_string()))?;
+    let dir = args
+        .out
+        .clone()
+        .unwrap_or_else(|| report::default_dir(meta.target_directory.as_std_path()));
+    let started = std::time::Instant::now();
+    let runs = measured(&pkgs, common, &args.filter, Mode::Run);
+    let source = pkgs.first().map_or_else(
+        || meta.workspace_root.clone().into_std_path_buf(),
+        |p| p.root.clone(),
+    );
+    let files = report::files(&runs, &source).map_err(|e| Fatal(e.to_string()))?;
+    report::out::write_dir(&dir, &files).map_err(|e| Fatal(e.to_string()))?;
+    let plots = files.iter().filter(|(n, _)| n.ends_with(".svg")).count();
+    eprintln!(
+        "drift: wrote the report to {} ({}, {}, {} and {plots} plots) in {:.1} s",
+        dir.display(),
+        report::HTML_FILE,
+        report::MARKDOWN_FILE,
+        report::JSON_FILE,
+        started.elapsed().as_secs_f64()
+    );
+    Ok(exit_code(&runs))
 }

@@ -44,6 +44,7 @@ impl Envelope {
     /// The envelope of errors `err[i]` at increasing positive times `t[i]`:
     /// per logarithmic time bin, the sample with the largest error (so a
     /// bounded oscillation keeps its peaks and a growth keeps its shape).
+    /// Samples whose time or error is not finite are left out.
     ///
     /// ```
     /// use drift::measure::long_run::{Envelope, ENVELOPE_BINS};
@@ -54,20 +55,25 @@ impl Envelope {
     /// assert_eq!(env.error.last(), Some(&1e-7));
     /// ```
     pub fn of(t: &[f64], err: &[f64]) -> Envelope {
-        let n = t.len().min(err.len());
-        let (Some(&first), Some(&last)) = (t.first(), t.get(n.wrapping_sub(1))) else {
+        let finite: Vec<(f64, f64)> = t
+            .iter()
+            .zip(err)
+            .filter(|(t, e)| t.is_finite() && e.is_finite())
+            .map(|(&t, &e)| (t, e))
+            .collect();
+        let (Some(&(first, _)), Some(&(last, _))) = (finite.first(), finite.last()) else {
             return Envelope::default();
         };
-        if n <= ENVELOPE_BINS || !(first > 0.0) || !(last > first) {
+        if finite.len() <= ENVELOPE_BINS || first <= 0.0 || last <= first {
             return Envelope {
-                t: t[..n].to_vec(),
-                error: err[..n].to_vec(),
+                t: finite.iter().map(|p| p.0).collect(),
+                error: finite.iter().map(|p| p.1).collect(),
             };
         }
         let span = (last / first).ln();
         let mut out = Envelope::default();
         let mut current: Option<(usize, f64, f64)> = None;
-        for (&ti, &ei) in t[..n].iter().zip(err) {
+        for &(ti, ei) in &finite {
             let frac = (ti / first).ln() / span;
             let bin = ((frac * ENVELOPE_BINS as f64) as usize).min(ENVELOPE_BINS - 1);
             match current {

@@ -4,7 +4,8 @@
 use super::super::model::{exit_code, PackageOutcome, PackageRun};
 use super::{figure, headline};
 
-fn cell(s: &str) -> String {
+/// Text made safe for a Markdown table cell.
+pub(crate) fn cell(s: &str) -> String {
     s.replace('|', "\\|")
 }
 
