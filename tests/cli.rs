@@ -7,30 +7,10 @@
 
 mod common;
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::path::PathBuf;
+use std::process::Command;
 
-use common::fixture::{copy_dir, edit, ours, scratch, shared_target, text, Scratch, ONE_AT_A_TIME};
-
-/// `cargo-drift drift ARGS...` (as cargo runs it) in `dir`.
-fn drift(dir: &Path, args: &[&str]) -> Output {
-    let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
-    Command::new(env!("CARGO_BIN_EXE_cargo-drift"))
-        .arg("drift")
-        .args(args)
-        .current_dir(dir)
-        .env("CARGO_TARGET_DIR", shared_target())
-        .env("CARGO_NET_OFFLINE", "true")
-        .env_remove("DRIFT_RECORD")
-        .env_remove("DRIFT_MEASUREMENTS")
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("cargo-drift runs")
-}
-
-fn code(out: &Output) -> i32 {
-    out.status.code().unwrap_or(-1)
-}
+use common::fixture::{cargo_drift as drift, code, copy_dir, edit, ours, scratch, text, Scratch};
 
 /// A workspace of two copies of the demo crate (`crane-a`, `crane-b`).
 fn workspace(name: &str) -> Scratch {

@@ -3,7 +3,7 @@
 //! `Cargo.lock` so no network is needed, removed on drop.
 
 use std::path::{Path, PathBuf};
-use std::process::Output;
+use std::process::{Command, Output};
 
 /// A scratch copy of the fixture, removed on drop.
 pub struct Scratch(pub PathBuf);
@@ -84,4 +84,25 @@ pub static ONE_AT_A_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
 /// The target directory all end-to-end builds share.
 pub fn shared_target() -> PathBuf {
     ours().join("target").join("e2e-target")
+}
+
+/// `cargo-drift drift ARGS...` (as cargo runs it) in `dir`.
+pub fn cargo_drift(dir: &Path, args: &[&str]) -> Output {
+    let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
+    Command::new(env!("CARGO_BIN_EXE_cargo-drift"))
+        .arg("drift")
+        .args(args)
+        .current_dir(dir)
+        .env("CARGO_TARGET_DIR", shared_target())
+        .env("CARGO_NET_OFFLINE", "true")
+        .env_remove("DRIFT_RECORD")
+        .env_remove("DRIFT_MEASUREMENTS")
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("cargo-drift runs")
+}
+
+/// The exit code of a finished command (-1 when killed by a signal).
+pub fn code(out: &Output) -> i32 {
+    out.status.code().unwrap_or(-1)
 }

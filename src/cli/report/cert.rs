@@ -256,8 +256,11 @@ fn stated(claimed: &Claims, claim: &str) -> String {
     }
 }
 
+/// The order claims are listed in: as drift.toml documents them.
+const CLAIM_ORDER: [&str; 4] = ["order", "energy drift", "reversible", "floor"];
+
 /// Gathers the claim rows of every check into one verdict per claim, in
-/// the order the claims first appear.
+/// [`CLAIM_ORDER`].
 fn claim_verdicts(claimed: &Claims, checks: &[&CheckResult]) -> Vec<ClaimVerdict> {
     let mut out: Vec<ClaimVerdict> = Vec::new();
     for c in checks {
@@ -282,6 +285,12 @@ fn claim_verdicts(claimed: &Claims, checks: &[&CheckResult]) -> Vec<ClaimVerdict
             }
         }
     }
+    out.sort_by_key(|v| {
+        CLAIM_ORDER
+            .iter()
+            .position(|c| *c == v.claim)
+            .unwrap_or(CLAIM_ORDER.len())
+    });
     for v in &mut out {
         v.verdict = if v.evidence.iter().all(|e| e.holds) {
             "holds".into()
