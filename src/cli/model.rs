@@ -48,8 +48,9 @@ pub struct CheckResult {
     /// Every claim row, holding or not.
     #[serde(default)]
     pub claims: Vec<Row>,
-    /// The measurement behind the figures.
-    #[serde(default)]
+    /// The measurement behind the figures (read from the harness for
+    /// reports; left out of `--format json`, where it would dwarf the rest).
+    #[serde(default, skip_serializing)]
     pub detail: Option<Detail>,
 }
 

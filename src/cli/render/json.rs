@@ -5,9 +5,11 @@
 //!   "packages": [ { "name", "root",
 //!                   "status": "checked" | "build-failed" | "crashed" | "timed-out" | "config-error",
 //!                   "message": null | "text", "environment": null | { harness header },
-//!                   "checks": [ { "name", "stepper", "problem", "verdict", "error", "rows", "figures" } ] } ] }
+//!                   "checks": [ { "name", "stepper", "problem", "verdict", "error", "rows", "figures",
+//!                                 "claimed", "claims" } ] } ] }
 //! ```
-//! `checks` are as the harness wrote them (see `drift::harness::output`).
+//! `checks` are as the harness wrote them (see `drift::harness::output`),
+//! without the measurement `detail` (that goes into `cargo drift report`).
 
 use serde_json::{json, Value};
 
