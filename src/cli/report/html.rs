@@ -21,6 +21,8 @@ td.good { color: #0b6e2e; font-weight: 600; } td.bad { color: #b00020; font-weig
 td.muted { color: #777; }
 .ladder td, .ladder th { text-align: right; white-space: nowrap; } .ladder td:first-child, .ladder th:first-child { text-align: left; }
 .scroll { overflow-x: auto; }
+.pair { display: flex; flex-wrap: wrap; gap: 0 1.5rem; align-items: flex-start; }
+.pair table { font-size: 0.86rem; } .figures td:last-child { max-width: 30rem; }
 .caution { border-left: 5px solid #c77700; background: #fff6e5; padding: 0.7rem 1rem; margin: 1.2rem 0; }
 figure { margin: 1rem 0; } figure svg { max-width: 100%; height: auto; display: block; border: 1px solid #e5e5e5; }
 figcaption { font-size: 0.9rem; color: #444; margin-top: 0.3rem; max-width: 900px; }
@@ -106,10 +108,12 @@ fn stepper_section(s: &StepperCert, svgs: &BTreeMap<String, String>) -> String {
             escape(&c.name),
             escape(&c.verdict)
         ));
+        out.push_str("<div class=\"pair\">");
         out.push_str(&table(&tables::figures(c), "figures"));
         if !c.rungs.is_empty() {
             out.push_str(&table(&tables::ladder(c), "ladder"));
         }
+        out.push_str("</div>\n");
     }
     out
 }

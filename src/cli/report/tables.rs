@@ -163,45 +163,43 @@ pub fn claims(stepper: &StepperCert) -> Table {
     }
 }
 
-/// A check's ladder: one column per rung, rows of digits (fitted rungs
-/// plain, the others muted with their class), steps and evaluations, and
-/// for adaptive rungs the rejections and the achieved error against the
+/// A check's ladder: one row per rung with its solution digits (a rung
+/// outside the order fit muted, with how the fit read it), steps and
+/// evaluations,
+/// and for adaptive rungs the rejections and the achieved error against the
 /// requested tolerance.
 pub fn ladder(check: &CheckCert) -> Table {
-    let mut head = vec!["rung".to_string()];
-    head.extend(check.rungs.iter().map(|r| r.label.clone()));
-    let row = |name: &str, f: &dyn Fn(usize) -> Cell| -> Vec<Cell> {
-        let mut r = vec![Cell::plain(name)];
-        r.extend((0..check.rungs.len()).map(f));
-        r
-    };
-    let digits = |k: usize| {
-        let r = &check.rungs[k];
-        let text = figure(r.digits);
-        match r.class {
-            RungClass::Fitted => Cell::plain(text),
-            other => Cell {
-                text: format!("{text} ({})", class_word(other)),
-                tone: Tone::Muted,
-            },
-        }
-    };
-    let count = |x: Option<u64>| Cell::plain(x.map_or("-".into(), |v| v.to_string()));
-    let mut rows = vec![
-        row("solution digits", &digits),
-        row("steps", &|k| count(check.rungs[k].steps)),
-        row("evaluations", &|k| count(check.rungs[k].evals)),
-    ];
-    if check.adaptive() {
-        rows.push(row("rejected", &|k| count(check.rungs[k].rejected)));
-        rows.push(row("error / tolerance", &|k| {
-            Cell::plain(
-                check.rungs[k]
-                    .error_over_tolerance
-                    .map_or("-".into(), |x| format!("{x:.2e}")),
-            )
-        }));
+    let adaptive = check.adaptive();
+    let mut head: Vec<String> = ["rung", "solution digits", "steps", "evaluations"]
+        .map(String::from)
+        .to_vec();
+    if adaptive {
+        head.push("rejected".into());
+        head.push("error / tolerance".into());
     }
+    let count = |x: Option<u64>| x.map_or("-".into(), |v| v.to_string());
+    let rows = check
+        .rungs
+        .iter()
+        .map(|r| {
+            let (digits, tone) = match r.class {
+                RungClass::Fitted => (figure(r.digits), Tone::Plain),
+                other => (
+                    format!("{} ({})", figure(r.digits), class_word(other)),
+                    Tone::Muted,
+                ),
+            };
+            let mut cells = vec![r.label.clone(), digits, count(r.steps), count(r.evals)];
+            if adaptive {
+                cells.push(count(r.rejected));
+                cells.push(
+                    r.error_over_tolerance
+                        .map_or("-".into(), |x| format!("{x:.2e}")),
+                );
+            }
+            cells.into_iter().map(|text| Cell { text, tone }).collect()
+        })
+        .collect();
     Table { head, rows }
 }
 
