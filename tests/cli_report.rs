@@ -279,8 +279,10 @@ fn report_of_the_demo_crate_is_complete_valid_and_renders() {
 }
 
 /// An adaptive integrator's report shows achieved error against requested
-/// tolerance and plots digits against evaluations; the JSON keeps to the
-/// schema. Measured in process, passed through the harness's own JSON.
+/// tolerance, plots digits against evaluations, and reports a claim that
+/// does not hold (a floor of 15 digits, beyond double precision over a
+/// tolerance ladder) with its evidence; the JSON keeps to the schema.
+/// Measured in process, passed through the harness's own JSON.
 #[test]
 fn adaptive_integrator_report_has_error_against_tolerance() {
     let p = Harmonic::default();
@@ -293,6 +295,7 @@ fn adaptive_integrator_report_has_error_against_tolerance() {
     let record = CheckRecord::from_measurement(&m);
     let claimed = Claims {
         order: Some(5.0),
+        floor: Some(15.0),
         ..Claims::default()
     };
     let outcome = CheckOutcome {
@@ -318,7 +321,16 @@ fn adaptive_integrator_report_has_error_against_tolerance() {
     };
     let json: Value = serde_json::from_str(&get("report.json")).unwrap();
     assert_eq!(schema_errors(&json), Vec::<String>::new());
-    let check = &json["packages"][0]["steppers"][0]["checks"][0];
+    let stepper = &json["packages"][0]["steppers"][0];
+    assert_eq!(stepper["verdict"], "violated");
+    let verdicts: Vec<(&str, &str)> = stepper["claims"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| (c["claim"].as_str().unwrap(), c["verdict"].as_str().unwrap()))
+        .collect();
+    assert_eq!(verdicts, [("order", "holds"), ("floor", "violated")]);
+    let check = &stepper["checks"][0];
     let rungs = check["rungs"].as_array().unwrap();
     assert!(rungs.len() >= 4);
     for r in rungs {
@@ -330,6 +342,11 @@ fn adaptive_integrator_report_has_error_against_tolerance() {
     }
     let html = get("index.html");
     assert!(html.contains("error / tolerance"));
+    assert!(html.contains("a claim is violated"));
+    assert!(
+        html.contains("fails on dopri5/harmonic"),
+        "the evidence names the check"
+    );
     let svg = get("adaptive-dopri5-convergence.svg");
     assert!(svg.contains("right-hand-side evaluations"));
     assert!(coloured_fraction(&svg, "adaptive convergence") > 0.001);

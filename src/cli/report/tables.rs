@@ -110,13 +110,20 @@ pub fn summary(packages: &[PackageCert]) -> Table {
 }
 
 fn evidence_text(c: &ClaimVerdict) -> String {
+    let what = match c.claim.as_str() {
+        "order" => "order",
+        "energy drift" => "drift exponent",
+        "reversible" => "reversibility digits",
+        "floor" => "best digits",
+        _ => "measured",
+    };
     let measured: Vec<f64> = c.evidence.iter().filter_map(|e| e.measured).collect();
     let range = match (
         measured.iter().copied().reduce(f64::min),
         measured.iter().copied().reduce(f64::max),
     ) {
-        (Some(lo), Some(hi)) if (hi - lo).abs() < 0.005 => format!("measured {lo:.2}"),
-        (Some(lo), Some(hi)) => format!("measured {lo:.2} to {hi:.2}"),
+        (Some(lo), Some(hi)) if (hi - lo).abs() < 0.005 => format!("{what} {lo:.2}"),
+        (Some(lo), Some(hi)) => format!("{what} {lo:.2} to {hi:.2}"),
         _ => "not measured".to_string(),
     };
     let failed: Vec<String> = c
@@ -229,10 +236,11 @@ pub fn figures(check: &CheckCert) -> Table {
         },
     );
     if let Some(h) = check.horizon {
-        let unit = if check.periodic {
-            "periods"
-        } else {
-            "time units"
+        let unit = match (check.periodic, h == 1.0) {
+            (true, true) => "period",
+            (true, false) => "periods",
+            (false, true) => "time unit",
+            (false, false) => "time units",
         };
         add("horizon", format!("{h} {unit}"));
     }
