@@ -168,6 +168,12 @@ fn report_of_the_demo_crate_is_complete_valid_and_renders() {
     let out = cargo_drift(&crate_dir.0, &["report", "--out", dir.to_str().unwrap()]);
     assert_eq!(code(&out), 0, "{}", text(&out));
     assert!(text(&out).contains("drift: wrote the report to"));
+    // The verdicts are shown as `run` shows them.
+    assert!(
+        text(&out).contains("17 pass in 1 package(s)"),
+        "{}",
+        text(&out)
+    );
 
     // JSON: the documented schema, and the demo's steppers with their claims.
     let json: Value =

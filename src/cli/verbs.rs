@@ -294,7 +294,8 @@ pub fn init_verb(common: &Common, args: &InitArgs) -> Result<u8, Fatal> {
 }
 
 /// `cargo drift report`: measures like `run`, writes the report directory
-/// whole, and exits as `run` would.
+/// whole, then shows and writes the verdicts as `run` does and exits as it
+/// would.
 pub fn report_verb(common: &Common, args: &ReportArgs) -> Result<u8, Fatal> {
     use super::report;
     let meta = metadata(common).map_err(|e| Fatal(e.to_string()))?;
@@ -320,5 +321,5 @@ pub fn report_verb(common: &Common, args: &ReportArgs) -> Result<u8, Fatal> {
         report::JSON_FILE,
         started.elapsed().as_secs_f64()
     );
-    Ok(exit_code(&runs))
+    report(&runs, common)
 }
