@@ -21,7 +21,7 @@ pub fn from_measurements(checks: &[CheckResult], path: &Path) -> Result<Vec<Stri
     for c in checks {
         match (&c.figures, c.fails()) {
             (Some(figures), false) => {
-                tables.insert(c.name.clone(), figures.clone());
+                tables.insert(c.name.clone(), without_nulls(figures.clone()));
             }
             _ => left_out.push(format!("{} ({})", c.name, c.verdict)),
         }
@@ -32,6 +32,27 @@ pub fn from_measurements(checks: &[CheckResult], path: &Path) -> Result<Vec<Stri
     let baseline = Baseline::parse(&text, path).map_err(|e| e.to_string())?;
     baseline.write_atomic(path).map_err(|e| e.to_string())?;
     Ok(left_out)
+}
+
+/// `value` without its null members (absent figures, which TOML has no
+/// way to write and the baseline leaves out).
+///
+/// ```
+/// use drift::cli::bisect::reference::without_nulls;
+/// let v = serde_json::json!({ "a": null, "b": { "c": null, "d": 1 } });
+/// assert_eq!(without_nulls(v), serde_json::json!({ "b": { "d": 1 } }));
+/// ```
+pub fn without_nulls(value: Value) -> Value {
+    match value {
+        Value::Object(map) => Value::Object(
+            map.into_iter()
+                .filter(|(_, v)| !v.is_null())
+                .map(|(k, v)| (k, without_nulls(v)))
+                .collect(),
+        ),
+        Value::Array(items) => Value::Array(items.into_iter().map(without_nulls).collect()),
+        other => other,
+    }
 }
 
 /// The `/`-separated path of `file` under the package directory `package`

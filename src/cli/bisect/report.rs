@@ -177,22 +177,24 @@ pub fn human(r: &BisectReport) -> String {
         out.push('\n');
     };
     let source = if r.against == "committed" {
-        "the baseline committed at good"
+        "the baseline committed at the good revision"
     } else {
-        "figures measured at good"
+        "figures measured at the good revision"
     };
     push(
         &mut out,
         clip(
             &format!(
-                "bisect {}: {} commits after good {}, against {source}",
+                "bisect {}: good {} .. bad {}, {} commits",
                 r.package,
-                r.commits,
-                r.good.short()
+                r.good.short(),
+                r.bad.short(),
+                r.commits
             ),
             80,
         ),
     );
+    push(&mut out, format!("judged against {source}"));
     push(&mut out, String::new());
     match &r.outcome {
         Outcome::Found => push(&mut out, "first bad commit:".into()),
@@ -252,20 +254,19 @@ pub fn human(r: &BisectReport) -> String {
         ),
     );
     for t in &r.tested {
-        let what = if t.verdict == Verdict::Good && t.role == "good" {
-            "reference".to_string()
-        } else {
-            t.reason.clone()
+        let what = match t.role {
+            "good" if t.verdict == Verdict::Good => "the reference".to_string(),
+            "step" => t.reason.clone(),
+            role => format!("{role} end: {}", t.reason),
         };
         push(
             &mut out,
             clip(
                 &format!(
-                    "  {:<8} {:<5} {}  {}  {what}",
+                    "  {:<5} {}  {:<28}  {what}",
                     t.verdict.name(),
-                    t.role,
                     t.commit.short(),
-                    clip(&t.commit.subject, 30)
+                    clip(&t.commit.subject, 28)
                 ),
                 80,
             ),
