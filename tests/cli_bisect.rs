@@ -289,7 +289,10 @@ fn bisect_finds_the_planted_commit_skips_the_broken_one_and_leaves_the_checkout_
     let first = &doc["first_bad"][0];
     assert_eq!(first["hash"], h.commits[REGRESSED].as_str(), "{doc:#}");
     assert_eq!(first["subject"], "Retune the third RK4 stage");
-    assert!(first["date"].as_str().unwrap().starts_with("2030-03-08T09:00:00"));
+    assert!(first["date"]
+        .as_str()
+        .unwrap()
+        .starts_with("2030-03-08T09:00:00"));
 
     // What moved: the order of RK4, 4 at the good revision (the classical
     // method's order, HNW I, II.1), below the claim's limit at the bad one.
@@ -433,6 +436,10 @@ fn interrupted_bisect_leaves_no_worktree_or_bisect_state() {
         );
         std::thread::sleep(Duration::from_millis(100));
     }
+    // git keeps the bisection's state with the worktree, not in the
+    // user's checkout.
+    assert_eq!(git(&h.repo(), &["for-each-ref", "refs/bisect"]), "");
+    assert!(!h.repo().join(".git/BISECT_START").exists());
     let pid = nix::unistd::Pid::from_raw(child.id() as i32);
     nix::sys::signal::kill(pid, nix::sys::signal::Signal::SIGINT).unwrap();
     let status = child.wait().unwrap();

@@ -368,6 +368,12 @@ fn assemble(
 
 /// `cargo drift bisect`.
 pub fn bisect_verb(common: &Common, args: &BisectArgs) -> Result<u8, Fatal> {
+    if common.junit.is_some() || common.summary.is_some() {
+        return Err(Fatal(
+            "--junit and --summary belong to run and record; bisect reports with --format json"
+                .into(),
+        ));
+    }
     let meta = metadata(common).map_err(fatal)?;
     let pkgs = discover(&meta, common).map_err(fatal)?;
     let pkg = match pkgs.as_slice() {

@@ -150,23 +150,28 @@ fn commit_line(c: &Commit) -> String {
 
 fn moved_line(m: &Moved) -> String {
     if m.status == "error" {
-        return clip(&m.metric, 72);
+        return clip(&m.metric, 74);
     }
     let limit = if m.allowed.is_empty() {
         String::new()
     } else {
-        format!("  (limit {})", m.allowed)
+        format!(" limit {}", m.allowed)
     };
     clip(
         &format!(
-            "{:<24} {:>8} -> {:<8} {}{limit}",
-            clip(&m.metric, 24),
+            "{:<20} {:>6} -> {:<6} {:<9}{limit}",
+            clip(&m.metric, 20),
             figure(m.good),
             figure(m.bad),
             m.status
         ),
-        72,
+        74,
     )
+}
+
+/// Whether a row is one rung of the ladder (shown as a count for people).
+fn is_rung(m: &Moved) -> bool {
+    m.metric.starts_with("digits @")
 }
 
 /// The report for people.
@@ -185,11 +190,11 @@ pub fn human(r: &BisectReport) -> String {
         &mut out,
         clip(
             &format!(
-                "bisect {}: good {} .. bad {}, {} commits",
+                "bisect {}: {} commits from good {} to bad {}",
                 r.package,
+                r.commits,
                 r.good.short(),
-                r.bad.short(),
-                r.commits
+                r.bad.short()
             ),
             80,
         ),
@@ -222,16 +227,25 @@ pub fn human(r: &BisectReport) -> String {
     for c in &r.first_bad {
         push(&mut out, format!("  {}", commit_line(c)));
     }
-    let mut check = "";
-    for m in &r.moved {
-        if m.check != check {
-            check = &m.check;
+    let mut checks: Vec<(&str, &str)> = r
+        .moved
+        .iter()
+        .map(|m| (m.check.as_str(), m.verdict.as_str()))
+        .collect();
+    checks.dedup();
+    for (check, verdict) in checks {
+        push(&mut out, format!("    {} ({verdict})", clip(check, 50)));
+        let rows: Vec<&Moved> = r.moved.iter().filter(|m| m.check == check).collect();
+        for m in rows.iter().filter(|m| !is_rung(m)) {
+            push(&mut out, format!("      {}", moved_line(m)));
+        }
+        let rungs = rows.iter().filter(|m| is_rung(m)).count();
+        if rungs > 0 {
             push(
                 &mut out,
-                format!("    {} ({})", clip(&m.check, 50), m.verdict),
+                format!("      and {rungs} rung(s) of the ladder with fewer digits"),
             );
         }
-        push(&mut out, format!("      {}", moved_line(m)));
     }
     if !r.left_out.is_empty() {
         push(
@@ -263,10 +277,10 @@ pub fn human(r: &BisectReport) -> String {
             &mut out,
             clip(
                 &format!(
-                    "  {:<5} {}  {:<28}  {what}",
+                    "  {:<5} {}  {:<30}  {what}",
                     t.verdict.name(),
                     t.commit.short(),
-                    clip(&t.commit.subject, 28)
+                    clip(&t.commit.subject, 30)
                 ),
                 80,
             ),
@@ -339,6 +353,8 @@ mod tests {
                 rows: vec![
                     row("order", 4.0, 1.0, "worse"),
                     row("best digits", 14.4, 14.4, "ok"),
+                    row("digits @ 16/unit", 3.1, 1.2, "worse"),
+                    row("digits @ 32/unit", 4.3, 1.5, "worse"),
                 ],
                 figures: None,
             }],
@@ -362,13 +378,13 @@ mod tests {
                     commit: commit(1, "start"),
                     role: "good",
                     verdict: Verdict::Good,
-                    reason: "1 checks pass".into(),
+                    reason: "1 check passes".into(),
                 },
                 Tested {
                     commit: commit(4, "broken"),
                     role: "step",
                     verdict: Verdict::Skip,
-                    reason: "crane does not build".into(),
+                    reason: "does not build".into(),
                 },
             ],
         }
@@ -377,7 +393,7 @@ mod tests {
     #[test]
     fn moved_keeps_only_rows_that_got_worse() {
         let moved = Moved::from_step(&failing_step());
-        assert_eq!(moved.len(), 1);
+        assert_eq!(moved.len(), 3);
         assert_eq!(
             (moved[0].metric.as_str(), moved[0].good, moved[0].bad),
             ("order", Some(4.0), Some(1.0))
@@ -396,6 +412,11 @@ mod tests {
             "{text}"
         );
         assert!(text.contains("5 builds for 8 commits"), "{text}");
+        assert!(text.contains("and 2 rung(s) of the ladder"), "{text}");
+        assert!(
+            !text.contains("digits @"),
+            "rungs are counted, not listed: {text}"
+        );
         assert!(text.lines().all(|l| l.chars().count() <= 80), "{text}");
         assert!(text.contains("not\nvalidation") || text.contains("not validation"));
     }

@@ -155,9 +155,7 @@ fn judge_checks(run: &PackageRun, expected: Option<&BTreeSet<String>>) -> StepRe
     let skip = |kind, why| record(Verdict::Skip, Some(kind), why);
     let report = match &run.outcome {
         PackageOutcome::Checked(r) => r,
-        PackageOutcome::BuildFailed(_) => {
-            return skip(SkipKind::Build, format!("{} does not build", run.package))
-        }
+        PackageOutcome::BuildFailed(_) => return skip(SkipKind::Build, "does not build".into()),
         PackageOutcome::ConfigError(m) => {
             let why = format!("invalid configuration: {}", first_line(m));
             return skip(SkipKind::Config, why);
@@ -187,7 +185,13 @@ fn judge_checks(run: &PackageRun, expected: Option<&BTreeSet<String>>) -> StepRe
     } else if checks.is_empty() {
         skip(SkipKind::Check, "no check matched the filter".into())
     } else if failed.is_empty() {
-        record(Verdict::Good, None, format!("{} checks pass", checks.len()))
+        let n = checks.len();
+        let what = if n == 1 {
+            "check passes"
+        } else {
+            "checks pass"
+        };
+        record(Verdict::Good, None, format!("{n} {what}"))
     } else {
         record(Verdict::Bad, None, failed.join(", "))
     };
