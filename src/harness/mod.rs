@@ -315,7 +315,9 @@ impl Harness {
             std::mem::take(&mut *shared.outcomes.lock().unwrap_or_else(|e| e.into_inner()));
         outcomes.sort_by(|a, b| a.name.cmp(&b.name));
         if let Some(path) = json {
-            write_json(&path, &output::document(&outcomes))?;
+            let mut doc = output::document(&outcomes);
+            doc["baseline"] = serde_json::json!(baseline_path);
+            write_json(&path, &doc)?;
         }
         if record {
             let summary = output::record(&baseline_path, shared.baseline.as_ref(), &outcomes)

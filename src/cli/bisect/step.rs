@@ -142,18 +142,36 @@ fn record(verdict: Verdict, skip: Option<SkipKind>, reason: String) -> StepRecor
     }
 }
 
+/// The reference a step is judged against: the file in `DRIFT_BASELINE`
+/// and its checks that match the filter.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reference {
+    /// The baseline file.
+    pub path: PathBuf,
+    /// The names of the checks that count.
+    pub checks: BTreeSet<String>,
+}
+
 /// Judges one package's run (one build): the verdict, why, and the checks
-/// that count (`expected`: the reference's check names, when there is a
-/// reference).
-pub fn judge(run: &PackageRun, expected: Option<&BTreeSet<String>>) -> StepRecord {
-    let mut judged = judge_checks(run, expected);
+/// that count (all of them, or only the reference's when there is one).
+pub fn judge(run: &PackageRun, reference: Option<&Reference>) -> StepRecord {
+    let mut judged = judge_checks(run, reference);
     judged.builds = 1;
     judged
 }
 
-fn judge_checks(run: &PackageRun, expected: Option<&BTreeSet<String>>) -> StepRecord {
+fn judge_checks(run: &PackageRun, reference: Option<&Reference>) -> StepRecord {
     let skip = |kind, why| record(Verdict::Skip, Some(kind), why);
     let report = match &run.outcome {
+        PackageOutcome::Checked(r)
+            if reference.is_some_and(|f| r.baseline.as_ref() != Some(&f.path)) =>
+        {
+            let why = format!(
+                "its harness ignores {ENV_BASELINE} (built from a cargo-drift that predates it), \
+                 so it cannot be judged against the reference"
+            );
+            return record(Verdict::Unjudged, None, why);
+        }
         PackageOutcome::Checked(r) => r,
         PackageOutcome::BuildFailed(_) => return skip(SkipKind::Build, "does not build".into()),
         PackageOutcome::ConfigError(m) => {
@@ -165,6 +183,7 @@ fn judge_checks(run: &PackageRun, expected: Option<&BTreeSet<String>>) -> StepRe
             return record(Verdict::Unjudged, None, why);
         }
     };
+    let expected = reference.map(|r| &r.checks);
     let counts = |c: &&CheckResult| expected.is_none_or(|e| e.contains(&c.name));
     let checks: Vec<CheckResult> = report.checks.iter().filter(counts).cloned().collect();
     let seen: BTreeSet<&str> = checks.iter().map(|c| c.name.as_str()).collect();
@@ -227,15 +246,19 @@ fn combine(parts: Vec<StepRecord>) -> StepRecord {
     combined
 }
 
-/// The checks of the reference in `DRIFT_BASELINE` that match `filter`,
+/// The reference in `DRIFT_BASELINE` with its checks that match `filter`,
 /// when that variable names an existing file.
-fn expected(filter: &Filtered) -> Result<Option<BTreeSet<String>>, String> {
+fn reference(filter: &Filtered) -> Result<Option<Reference>, String> {
     let Some(path) = std::env::var_os(ENV_BASELINE).filter(|v| !v.is_empty()) else {
         return Ok(None);
     };
-    let baseline = Baseline::load(Path::new(&path)).map_err(|e| e.to_string())?;
+    let path = PathBuf::from(path);
+    let baseline = Baseline::load(&path).map_err(|e| e.to_string())?;
     let f = filter.filter.as_deref().map(|f| (f, filter.exact));
-    Ok(baseline.map(|b| b.checks.into_keys().filter(|n| matches(n, f)).collect()))
+    Ok(baseline.map(|b| Reference {
+        checks: b.checks.into_keys().filter(|n| matches(n, f)).collect(),
+        path,
+    }))
 }
 
 /// Appends `record` as one JSON line to `log` (the whole file rewritten
@@ -268,7 +291,7 @@ pub fn step_verb(common: &Common, args: &RunArgs) -> u8 {
         .ok()
         .and_then(|d| Repo::discover(&d).ok())
         .and_then(|r| r.head());
-    let mut step = match (expected(filter), found(common)) {
+    let mut step = match (reference(filter), found(common)) {
         (Err(e), _) => record(
             Verdict::Unjudged,
             None,
@@ -279,11 +302,11 @@ pub fn step_verb(common: &Common, args: &RunArgs) -> u8 {
             Some(SkipKind::Harness),
             format!("no harness to run: {}", first_line(&e.0)),
         ),
-        (Ok(expected), Ok(pkgs)) => {
+        (Ok(reference), Ok(pkgs)) => {
             let runs = measured(&pkgs, common, filter, Mode::Run);
             // The table (or JSON) for whoever reads git's output.
             let _ = report(&runs, common);
-            combine(runs.iter().map(|r| judge(r, expected.as_ref())).collect())
+            combine(runs.iter().map(|r| judge(r, reference.as_ref())).collect())
         }
     };
     step.commit = commit;
@@ -332,12 +355,13 @@ mod tests {
             format: 1,
             tool: "0.1.0".into(),
             environment: crate::baseline::Header::current(),
+            baseline: Some("ref.toml".into()),
             checks,
         })))
     }
 
-    fn verdict_of(r: &PackageRun, expected: Option<&BTreeSet<String>>) -> (Verdict, u8) {
-        let v = judge(r, expected).verdict;
+    fn verdict_of(r: &PackageRun, reference: Option<&Reference>) -> (Verdict, u8) {
+        let v = judge(r, reference).verdict;
         (v, v.exit_code())
     }
 
@@ -365,7 +389,10 @@ mod tests {
 
     #[test]
     fn only_the_reference_checks_count() {
-        let expected: BTreeSet<String> = ["a/b".to_string()].into();
+        let expected = Reference {
+            path: "ref.toml".into(),
+            checks: ["a/b".to_string()].into(),
+        };
         // A check the reference does not hold fails: ignored.
         let other = checked(vec![check("a/b", "pass"), check("a/z", "claim-violated")]);
         assert_eq!(verdict_of(&other, Some(&expected)), (Verdict::Good, 0));
@@ -374,6 +401,15 @@ mod tests {
         let r = judge(&missing, Some(&expected));
         assert_eq!((r.verdict, r.skip), (Verdict::Skip, Some(SkipKind::Check)));
         assert!(r.reason.contains("a/b"), "{}", r.reason);
+        // A harness that judged against another file cannot be judged.
+        let elsewhere = Reference {
+            path: "other.toml".into(),
+            ..expected
+        };
+        assert_eq!(
+            verdict_of(&other, Some(&elsewhere)),
+            (Verdict::Unjudged, 128)
+        );
     }
 
     #[test]
