@@ -161,7 +161,7 @@ fn builds(log: &Path) -> usize {
 }
 
 /// `cargo-drift drift ARGS...` in the repository, as a command.
-fn drift_cmd(h: &History, cargo: &Path, args: &[&str]) -> Command {
+fn drift_cmd<S: AsRef<std::ffi::OsStr>>(h: &History, cargo: &Path, args: &[S]) -> Command {
     let mut cmd = Command::new(env!("CARGO_BIN_EXE_cargo-drift"));
     cmd.arg("drift")
         .args(args)
@@ -179,7 +179,7 @@ fn drift_cmd(h: &History, cargo: &Path, args: &[&str]) -> Command {
     cmd
 }
 
-fn drift(h: &History, cargo: &Path, args: &[&str]) -> Output {
+fn drift<S: AsRef<std::ffi::OsStr>>(h: &History, cargo: &Path, args: &[S]) -> Output {
     let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
     drift_cmd(h, cargo, args)
         .output()
@@ -245,8 +245,16 @@ fn assert_nothing_left(h: &History) {
     assert!(scratch.is_empty(), "scratch directories left: {scratch:?}");
 }
 
-fn target_dir() -> String {
-    shared_target().display().to_string()
+/// `bisect --good <commit 0> --target-dir <shared> [EXTRA] --exact rk4/harmonic`:
+/// one fast check, every build in the shared end-to-end target directory.
+fn bisect_args(h: &History, extra: &[&str]) -> Vec<String> {
+    let target = shared_target().display().to_string();
+    let mut args: Vec<String> = ["bisect", "--good", &h.commits[0], "--target-dir", &target]
+        .map(String::from)
+        .into();
+    args.extend(extra.iter().map(|s| s.to_string()));
+    args.extend(["--exact".into(), "rk4/harmonic".into()]);
+    args
 }
 
 #[test]
@@ -265,21 +273,7 @@ fn bisect_finds_the_planted_commit_skips_the_broken_one_and_leaves_the_checkout_
 
     let (cargo, log) = counting_cargo(&h);
     let started = Instant::now();
-    let out = drift(
-        &h,
-        &cargo,
-        &[
-            "bisect",
-            "--good",
-            &h.commits[0],
-            "--target-dir",
-            &target_dir(),
-            "--format",
-            "json",
-            "--exact",
-            "rk4/harmonic",
-        ],
-    );
+    let out = drift(&h, &cargo, &bisect_args(&h, &["--format", "json"]));
     let took = started.elapsed();
     eprintln!("bisect took {:.1} s", took.as_secs_f64());
     assert_eq!(code(&out), 1, "{}", text(&out));
@@ -338,23 +332,9 @@ fn bisect_finds_the_planted_commit_skips_the_broken_one_and_leaves_the_checkout_
 fn bisect_stops_early_when_the_bad_revision_does_not_regress() {
     let h = history("bisect-none");
     let (cargo, log) = counting_cargo(&h);
-    let out = drift(
-        &h,
-        &cargo,
-        &[
-            "bisect",
-            "--good",
-            &h.commits[0],
-            "--bad",
-            &h.commits[REGRESSED - 1],
-            "--against",
-            "committed",
-            "--target-dir",
-            &target_dir(),
-            "--exact",
-            "rk4/harmonic",
-        ],
-    );
+    let bad = &h.commits[REGRESSED - 1];
+    let extra = ["--bad", bad, "--against", "committed"];
+    let out = drift(&h, &cargo, &bisect_args(&h, &extra));
     assert_eq!(code(&out), 0, "{}", text(&out));
     let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(stdout.contains("no regression"), "{stdout}");
@@ -400,23 +380,11 @@ fn interrupted_bisect_leaves_no_worktree_or_bisect_state() {
     let h = history("bisect-stop");
     let (cargo, _log) = counting_cargo(&h);
     let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
-    let mut child = drift_cmd(
-        &h,
-        &cargo,
-        &[
-            "bisect",
-            "--good",
-            &h.commits[0],
-            "--target-dir",
-            &target_dir(),
-            "--exact",
-            "rk4/harmonic",
-        ],
-    )
-    .stdout(Stdio::null())
-    .stderr(Stdio::null())
-    .spawn()
-    .expect("cargo-drift starts");
+    let mut child = drift_cmd(&h, &cargo, &bisect_args(&h, &[]))
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .expect("cargo-drift starts");
     // Wait until git's bisection runs in the worktree, then interrupt.
     let admin = h.repo().join(".git/worktrees");
     let started = Instant::now();
