@@ -133,14 +133,20 @@ fn measure_at(
         Ok(e) => e,
         Err(e) => return Ok(Err(format!("cannot find cargo-drift itself: {e}"))),
     };
+    let before = step::read_log(&session.log()).map_or(0, |l| l.len());
     let mut cmd = Command::new(exe);
     cmd.args(plan.step_args(session));
     plan.environment(&mut cmd, session, baseline);
-    if let Err(e) = run_guarded(cmd)? {
-        return Ok(Err(e));
-    }
-    Ok(step::read_log(&session.log())
-        .and_then(|log| log.last().cloned().ok_or("the step wrote no log".into())))
+    let status = match run_guarded(cmd)? {
+        Ok((status, _)) => status,
+        Err(e) => return Ok(Err(e)),
+    };
+    // Only a line this step wrote counts.
+    Ok(step::read_log(&session.log()).and_then(|log| {
+        log.get(before)
+            .cloned()
+            .ok_or_else(|| format!("the step ended ({status}) without a verdict"))
+    }))
 }
 
 /// The package's manifest relative to the repository top.
@@ -431,6 +437,12 @@ pub fn bisect_verb(common: &Common, args: &BisectArgs) -> Result<u8, Fatal> {
         Ok(Ok(o)) => Ok(Ok(assemble(&repo, &session, &plan, args.against, ends, o))),
     };
     drop(session);
+    // An interrupt that reached a git command directly ends the same way.
+    let result = if interrupt::interrupted() {
+        Err(Interrupted)
+    } else {
+        result
+    };
     match result {
         Err(Interrupted) => {
             eprintln!("drift: bisect interrupted; its temporary worktree is removed");
