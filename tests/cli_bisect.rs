@@ -24,6 +24,10 @@ const AFTER_GOOD: usize = 18;
 const BROKEN: usize = 4;
 /// The commit that plants the regression.
 const REGRESSED: usize = 7;
+/// The commit that records the crate itself in `Cargo.lock`. Before it,
+/// cargo adds the entry in every build, so the worktree has a changed
+/// tracked file that git's next checkout must not trip over.
+const LOCKED: usize = 6;
 
 /// A scratch area `target/e2e/<name>` holding the user's repository at
 /// `user/crane`; it is also the temporary directory bisect works in
@@ -82,9 +86,22 @@ fn append(file: &Path, line: &str) {
     std::fs::write(file, t).unwrap();
 }
 
+/// `Cargo.lock` with the entry cargo adds for the crate `package`, in
+/// cargo's (name) order.
+fn with_own_entry(lock: &str, package: &str) -> String {
+    let entry = format!(
+        "[[package]]\nname = \"{package}\"\nversion = \"0.1.0\"\ndependencies = [\n \"cargo-drift\",\n]\n\n"
+    );
+    let at = lock
+        .match_indices("[[package]]\nname = \"")
+        .find(|(i, m)| lock[i + m.len()..].split('"').next() > Some(package))
+        .map_or(lock.len(), |(i, _)| i);
+    format!("{}{entry}{}", &lock[..at], &lock[at..])
+}
+
 /// The history: commit 0 is the demo crate, then harmless README lines,
-/// an unbuildable commit, its fix, the planted regression, more README
-/// lines.
+/// an unbuildable commit, its fix, the planted regression, the crate's own
+/// lock entry, more README lines.
 fn history(name: &str) -> History {
     let area = ours().join("target").join("e2e").join(name);
     let _ = std::fs::remove_dir_all(&area);
@@ -113,6 +130,13 @@ fn history(name: &str) -> History {
             i if i == BROKEN + 1 => {
                 edit(&lib, "{ 2.0 * }", "{ 2.0 * 12.5 }");
                 "Fix the trolley travel".into()
+            }
+            LOCKED => {
+                let path = repo.join("Cargo.lock");
+                let lock = std::fs::read_to_string(&path).unwrap();
+                let package = format!("harbour-crane-{name}");
+                std::fs::write(&path, with_own_entry(&lock, &package)).unwrap();
+                "Record the crate in Cargo.lock".into()
             }
             REGRESSED => {
                 edit(

@@ -284,13 +284,52 @@ impl Repo {
         Ok(())
     }
 
-    /// Checks out `rev` (detached) in this worktree.
+    /// Checks out `rev` (detached) in this worktree, over any change a
+    /// build made to tracked files.
     pub fn checkout(&self, rev: &str) -> Result<(), GitError> {
         self.run(
             &format!("check out {rev} in the temporary worktree"),
-            ["checkout", "--quiet", "--detach", rev],
+            ["checkout", "--quiet", "--force", "--detach", rev],
         )
         .map(|_| ())
+    }
+
+    /// Whether this checkout is a bisection's own worktree: a linked
+    /// worktree at `<temporary dir>/cargo-drift-bisect-*/tree`.
+    pub fn is_bisect_worktree(&self) -> bool {
+        let named = self.top.file_name().is_some_and(|n| n == "tree")
+            && self
+                .top
+                .parent()
+                .and_then(Path::file_name)
+                .is_some_and(|n| {
+                    n.to_string_lossy()
+                        .starts_with(crate::cli::bisect::session::PREFIX)
+                });
+        let linked = match (
+            self.run("read the git directory", ["rev-parse", "--git-dir"]),
+            self.run("read the git directory", ["rev-parse", "--git-common-dir"]),
+        ) {
+            (Ok(own), Ok(common)) => own != common,
+            _ => false,
+        };
+        named && linked
+    }
+
+    /// Puts back every tracked file and removes untracked ones that are
+    /// not ignored (what a build may have changed, e.g. `Cargo.lock`), so
+    /// that git can check out the next commit. Only in a bisection's own
+    /// worktree ([`Repo::is_bisect_worktree`]); elsewhere it does nothing.
+    pub fn discard_changes(&self) -> Result<(), GitError> {
+        if !self.is_bisect_worktree() {
+            return Ok(());
+        }
+        self.run(
+            "reset the temporary worktree",
+            ["reset", "--hard", "--quiet"],
+        )?;
+        self.run("clean the temporary worktree", ["clean", "-fdq"])
+            .map(|_| ())
     }
 
     /// `git bisect start BAD GOOD` in this worktree (git checks out the

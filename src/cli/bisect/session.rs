@@ -9,6 +9,9 @@ use std::time::{SystemTime, UNIX_EPOCH};
 
 use super::git::{GitError, Repo};
 
+/// How the scratch directory's name begins.
+pub const PREFIX: &str = "cargo-drift-bisect-";
+
 /// The scratch space; removed on drop.
 pub struct Session {
     main: Repo,
@@ -22,8 +25,7 @@ impl Session {
         let nanos = SystemTime::now()
             .duration_since(UNIX_EPOCH)
             .map_or(0, |d| d.subsec_nanos());
-        let dir =
-            std::env::temp_dir().join(format!("cargo-drift-bisect-{}-{nanos}", std::process::id()));
+        let dir = std::env::temp_dir().join(format!("{PREFIX}{}-{nanos}", std::process::id()));
         std::fs::create_dir(&dir).map_err(|e| GitError::Failed {
             what: format!("make the scratch directory {}", dir.display()),
             message: e.to_string(),

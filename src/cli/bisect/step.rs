@@ -287,10 +287,10 @@ pub fn read_log(log: &Path) -> Result<Vec<StepRecord>, String> {
 /// `cargo drift run --bisect-step`: the exit code for git.
 pub fn step_verb(common: &Common, args: &RunArgs) -> u8 {
     let filter = &args.filtered;
-    let commit = std::env::current_dir()
+    let checkout = std::env::current_dir()
         .ok()
-        .and_then(|d| Repo::discover(&d).ok())
-        .and_then(|r| r.head());
+        .and_then(|d| Repo::discover(&d).ok());
+    let commit = checkout.as_ref().and_then(Repo::head);
     let mut step = match (reference(filter), found(common)) {
         (Err(e), _) => record(
             Verdict::Unjudged,
@@ -321,6 +321,12 @@ pub fn step_verb(common: &Common, args: &RunArgs) -> u8 {
             eprintln!("error: cannot write the step log: {e}");
             return UNJUDGED;
         }
+    }
+    // In bisect's own worktree, what the build changed goes, so that git
+    // can check out the next commit; a user's checkout is never reset.
+    if let Some(Err(e)) = checkout.map(|c| c.discard_changes()) {
+        eprintln!("error: {e}");
+        return UNJUDGED;
     }
     step.verdict.exit_code()
 }
