@@ -36,6 +36,7 @@ fn runs() -> Vec<PackageRun> {
         format: 1,
         tool: "0.1.0".into(),
         environment: Header::current(),
+        baseline: None,
         checks,
     };
     vec![

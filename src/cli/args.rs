@@ -12,6 +12,9 @@ Exit codes:
   1  a check regressed, violated a claim of its stepper, or errored
   2  usage or configuration error (drift.toml, baseline file, arguments)
   3  a harness failed to build, crashed or ran past --timeout
+bisect: 1 it found the commit that regressed, 0 the bad revision does not
+regress (nothing to bisect), 2 and 3 as above, 130 interrupted.
+run --bisect-step: 0 good, 1 bad, 125 skip, 128 cannot be judged.
 
 A pass is numerical verification of steppers on reference problems, not
 validation of a physical model.";
@@ -49,7 +52,7 @@ pub struct DriftArgs {
 #[derive(Debug, Subcommand)]
 pub enum Verb {
     /// Measure every check and compare with the baseline (the default).
-    Run(Filtered),
+    Run(RunArgs),
     /// Measure and write the baseline file, showing what changed.
     Record(Filtered),
     /// List the checks with their stepper, problem, ladder and baseline status.
@@ -59,6 +62,8 @@ pub enum Verb {
     /// Measure every check and write a certificate of each stepper: an HTML
     /// page, a Markdown page with SVG plots, and JSON.
     Report(ReportArgs),
+    /// Find the first commit between --good and --bad where a check regressed.
+    Bisect(super::bisect::BisectArgs),
 }
 
 /// Options of `report`.
@@ -71,6 +76,22 @@ pub struct ReportArgs {
     /// Which checks.
     #[command(flatten)]
     pub filter: Filtered,
+}
+
+/// Options of `run`.
+#[derive(Debug, Args, Default)]
+pub struct RunArgs {
+    /// The checks to run.
+    #[command(flatten)]
+    pub filtered: Filtered,
+    /// Exit as a step of `git bisect run`: 0 good, 1 a check failed, 125
+    /// skip (does not build, no harness, a check missing), 128 cannot be
+    /// judged (crash, timeout), which stops git bisect.
+    #[arg(long)]
+    pub bisect_step: bool,
+    /// With --bisect-step: append the step's verdict as a JSON line to FILE.
+    #[arg(long, value_name = "FILE", requires = "bisect_step", hide = true)]
+    pub step_log: Option<PathBuf>,
 }
 
 /// A verb that takes a check-name filter.

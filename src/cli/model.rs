@@ -82,6 +82,10 @@ pub struct HarnessReport {
     pub tool: String,
     /// Where it was measured.
     pub environment: Header,
+    /// The baseline file it judged against (absent from harnesses older
+    /// than `DRIFT_BASELINE`).
+    #[serde(default)]
+    pub baseline: Option<PathBuf>,
     /// The checks that ran.
     pub checks: Vec<CheckResult>,
 }

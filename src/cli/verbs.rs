@@ -18,7 +18,7 @@ use super::render::{color, human, json, junit, markdown};
 /// An error of the command itself (exit code 2), already worded for people.
 pub struct Fatal(pub String);
 
-fn color_on(common: &Common) -> Result<bool, Fatal> {
+pub(crate) fn color_on(common: &Common) -> Result<bool, Fatal> {
     let choice: color::ColorChoice = common.color.parse().map_err(|_| {
         Fatal(format!(
             "--color takes auto, always or never, not `{}`",
@@ -35,7 +35,7 @@ fn color_on(common: &Common) -> Result<bool, Fatal> {
     ))
 }
 
-fn found(common: &Common) -> Result<Vec<Found>, Fatal> {
+pub(crate) fn found(common: &Common) -> Result<Vec<Found>, Fatal> {
     let meta = metadata(common).map_err(|e| Fatal(e.to_string()))?;
     discover(&meta, common).map_err(|e| Fatal(e.to_string()))
 }
@@ -85,7 +85,12 @@ fn package_run(pkg: &Found, result: Result<String, PackageOutcome>) -> PackageRu
     }
 }
 
-fn measured(pkgs: &[Found], common: &Common, filter: &Filtered, mode: Mode) -> Vec<PackageRun> {
+pub(crate) fn measured(
+    pkgs: &[Found],
+    common: &Common,
+    filter: &Filtered,
+    mode: Mode,
+) -> Vec<PackageRun> {
     pkgs.iter()
         .zip(run_all(pkgs, common, filter, mode))
         .map(|(p, r)| package_run(p, r))
@@ -93,7 +98,7 @@ fn measured(pkgs: &[Found], common: &Common, filter: &Filtered, mode: Mode) -> V
 }
 
 /// Writes the verdicts in every requested form; the exit code.
-fn report(runs: &[PackageRun], common: &Common) -> Result<u8, Fatal> {
+pub(crate) fn report(runs: &[PackageRun], common: &Common) -> Result<u8, Fatal> {
     match common.format {
         Format::Json => println!("{}", json::json_document(runs)),
         Format::Human => print!("{}", human::verdict_table(runs, color_on(common)?)),

@@ -10,6 +10,10 @@
 //!   check's figures and verdict as versioned JSON ([`output`]).
 //! - [`ENV_PLAN`] (`DRIFT_PLAN=path`): write the planned checks (stepper,
 //!   problem, ladder, whether recorded) as JSON and measure nothing.
+//! - [`ENV_BASELINE`] (`DRIFT_BASELINE=path`): judge against (and in record
+//!   mode write) this baseline file instead of the one `drift.toml` names;
+//!   `cargo drift bisect` judges every commit against the good revision's
+//!   figures this way.
 //!
 //! The parts: [`check`] runs one plan; [`output`] is the JSON document and
 //! the record-mode merge.
@@ -44,6 +48,11 @@ pub const ENV_PLAN: &str = "DRIFT_PLAN";
 /// (relative to the root); `cargo drift` sets it from
 /// `[package.metadata.drift] file = "..."`.
 pub const ENV_FILE: &str = "DRIFT_FILE";
+/// A path: the baseline file to judge against and record into, instead of
+/// `settings.baseline` of `drift.toml` (relative paths are relative to the
+/// package root). Harnesses built from a cargo-drift older than this
+/// variable ignore it.
+pub const ENV_BASELINE: &str = "DRIFT_BASELINE";
 
 /// The problem a check runs on.
 pub enum Target {
@@ -265,7 +274,9 @@ impl Harness {
             .filter(|v| !v.is_empty())
             .map_or_else(|| "drift.toml".into(), PathBuf::from);
         let spec = Spec::load(&root.join(file), &catalog).map_err(HarnessError::Spec)?;
-        let baseline_path = spec.baseline_path(&root);
+        let baseline_path = std::env::var_os(ENV_BASELINE)
+            .filter(|v| !v.is_empty())
+            .map_or_else(|| spec.baseline_path(&root), |p| root.join(p));
         let baseline = Baseline::load(&baseline_path).map_err(HarnessError::Baseline)?;
         let record = std::env::var(ENV_RECORD).is_ok_and(|v| !v.is_empty() && v != "0");
         let json = std::env::var_os(ENV_MEASUREMENTS)
@@ -315,7 +326,9 @@ impl Harness {
             std::mem::take(&mut *shared.outcomes.lock().unwrap_or_else(|e| e.into_inner()));
         outcomes.sort_by(|a, b| a.name.cmp(&b.name));
         if let Some(path) = json {
-            write_json(&path, &output::document(&outcomes))?;
+            let mut doc = output::document(&outcomes);
+            doc["baseline"] = serde_json::json!(baseline_path);
+            write_json(&path, &doc)?;
         }
         if record {
             let summary = output::record(&baseline_path, shared.baseline.as_ref(), &outcomes)

@@ -4,7 +4,7 @@
 //!
 //! JSON layout, format 1:
 //! ```text
-//! { "format": 1, "tool": "0.1.0",
+//! { "format": 1, "tool": "0.1.0", "baseline": "path judged against",
 //!   "environment": { "format", "tool", "target", "rustc", "profile", "features" },
 //!   "checks": [ { "name": "rk4/harmonic", "stepper": "rk4", "problem": "harmonic",
 //!                 "verdict": "pass" | "improved" | "new" | "regressed" | "claim-violated" | "error",

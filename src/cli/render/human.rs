@@ -66,7 +66,7 @@ pub fn verdict_table(runs: &[PackageRun], on: bool) -> String {
 }
 
 /// Words of `text` in lines of at most `width` characters.
-fn wrap(text: &str, width: usize) -> Vec<String> {
+pub(crate) fn wrap(text: &str, width: usize) -> Vec<String> {
     let mut lines = vec![String::new()];
     for word in text.split_whitespace() {
         let last = lines.last_mut().expect("one line");
