@@ -40,7 +40,7 @@ fn workspace(name: &str) -> Scratch {
     }
     std::fs::write(
         root.join("Cargo.toml"),
-        "[workspace]\nmembers = [\"crane-a\", \"crane-b\"]\nresolver = \"2\"\n",
+        "[workspace]\nmembers = [\"crane-a\", \"crane-b\"]\nresolver = \"2\"\n\n[profile.test]\nopt-level = 3\n",
     )
     .unwrap();
     std::fs::copy(ours().join("Cargo.lock"), root.join("Cargo.lock")).unwrap();

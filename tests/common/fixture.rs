@@ -87,11 +87,20 @@ pub fn shared_target() -> PathBuf {
 }
 
 /// `cargo-drift drift ARGS...` (as cargo runs it) in `dir`.
+/// Unless `args` choose a profile, the harnesses are built in the test
+/// profile, as the harness scenarios build them, so that every end-to-end
+/// test shares one build of the dependencies in the shared target directory.
 pub fn cargo_drift(dir: &Path, args: &[&str]) -> Output {
     let _turn = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
+    let profile: &[&str] = if args.contains(&"--profile") {
+        &[]
+    } else {
+        &["--profile", "test"]
+    };
     Command::new(env!("CARGO_BIN_EXE_cargo-drift"))
         .arg("drift")
         .args(args)
+        .args(profile)
         .current_dir(dir)
         .env("CARGO_TARGET_DIR", shared_target())
         .env("CARGO_NET_OFFLINE", "true")
