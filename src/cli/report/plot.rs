@@ -163,8 +163,11 @@ fn rung_x(check: &CheckCert, k: usize) -> Option<f64> {
     }
 }
 
+/// A point of a convergence plot: (x, digits, whether the rung was fitted).
+type Point = (f64, f64, bool);
+
 /// The points of a check: (x, digits, fitted).
-fn points(check: &CheckCert) -> Vec<(f64, f64, bool)> {
+fn points(check: &CheckCert) -> Vec<Point> {
     (0..check.rungs.len())
         .filter_map(|k| {
             let d = check.rungs[k].digits?;
@@ -176,12 +179,12 @@ fn points(check: &CheckCert) -> Vec<(f64, f64, bool)> {
 
 /// The fitted straight line over the fit range: slope = order in digits per
 /// decade, through the mean of the fitted points.
-fn fit_line(check: &CheckCert) -> Option<[(f64, f64); 2]> {
+fn fit_line(check: &CheckCert, pts: &[Point]) -> Option<[(f64, f64); 2]> {
     let order = check.order.as_ref()?.order;
-    let fitted: Vec<(f64, f64)> = points(check)
-        .into_iter()
+    let fitted: Vec<(f64, f64)> = pts
+        .iter()
         .filter(|p| p.2)
-        .map(|(x, d, _)| (x, d))
+        .map(|&(x, d, _)| (x, d))
         .collect();
     if fitted.len() < 2 {
         return None;
@@ -239,6 +242,23 @@ where
         .map_err(err)
 }
 
+/// A single plot's frame: the title on top, the plot area on the left and
+/// the legend column ([`LEGEND_WIDTH`]) on the right.
+type Areas<'a> = (
+    DrawingArea<SVGBackend<'a>, Shift>,
+    DrawingArea<SVGBackend<'a>, Shift>,
+);
+
+fn titled_with_legend<'a>(
+    root: &DrawingArea<SVGBackend<'a>, Shift>,
+    title: &str,
+) -> Result<Areas<'a>, PlotError> {
+    let root = root
+        .titled(title, ("sans-serif", TITLE_FONT))
+        .map_err(err)?;
+    Ok(root.split_horizontally(SIZE.0 - LEGEND_WIDTH))
+}
+
 /// A tick label of a count on a log axis: 100, 1000, 1e4 ...
 fn count_label(v: &f64) -> String {
     if *v < 9_999.5 {
@@ -284,16 +304,16 @@ fn reference<DB: DrawingBackend, X: Ranged<ValueType = f64>, Y: Ranged<ValueType
 /// dashed black segment, and grey reference slopes. `None` when no check
 /// has two points.
 pub fn convergence(stepper: &StepperCert) -> Result<Option<String>, PlotError> {
-    let checks: Vec<&CheckCert> = stepper
+    // Each check with its points (x, digits, fitted), read once.
+    let checks: Vec<(&CheckCert, Vec<Point>)> = stepper
         .checks
         .iter()
-        .filter(|c| points(c).len() >= 2)
+        .map(|c| (c, points(c)))
+        .filter(|(_, pts)| pts.len() >= 2)
         .collect();
-    let adaptive = checks.iter().any(|c| c.adaptive());
+    let adaptive = checks.iter().any(|(c, _)| c.adaptive());
     let Some((x0, x1)) = log_range(
-        checks
-            .iter()
-            .flat_map(|c| points(c).into_iter().map(|p| p.0)),
+        checks.iter().flat_map(|(_, pts)| pts.iter().map(|p| p.0)),
         1.3,
     ) else {
         return Ok(None);
@@ -312,7 +332,7 @@ pub fn convergence(stepper: &StepperCert) -> Result<Option<String>, PlotError> {
     let entries: Vec<(String, Look)> = checks
         .iter()
         .enumerate()
-        .map(|(k, c)| {
+        .map(|(k, (c, _))| {
             let label = match &c.order {
                 Some(o) => format!("{}: order {:.2}", c.problem_label(), o.order),
                 None => format!("{}: no order", c.problem_label()),
@@ -321,13 +341,8 @@ pub fn convergence(stepper: &StepperCert) -> Result<Option<String>, PlotError> {
         })
         .collect();
     svg_text(SIZE, |root| {
-        let root = root
-            .titled(
-                &format!("Convergence of {}", stepper.name),
-                ("sans-serif", TITLE_FONT),
-            )
-            .map_err(err)?;
-        let (plot_area, legend_area) = root.split_horizontally(SIZE.0 - LEGEND_WIDTH);
+        let (plot_area, legend_area) =
+            titled_with_legend(root, &format!("Convergence of {}", stepper.name))?;
         let mut chart = ChartBuilder::on(&plot_area)
             .margin(12)
             .x_label_area_size(58)
@@ -354,17 +369,16 @@ pub fn convergence(stepper: &StepperCert) -> Result<Option<String>, PlotError> {
                 &format!("slope {p}"),
             )?;
         }
-        for (k, check) in checks.iter().enumerate() {
+        for (k, (check, pts)) in checks.iter().enumerate() {
             let lk = look(k);
-            let pts = points(check);
             chart
                 .draw_series(LineSeries::new(
                     pts.iter().map(|p| (p.0, p.1)),
                     lk.color.stroke_width(2),
                 ))
                 .map_err(err)?;
-            markers(&mut chart, &pts, lk)?;
-            if let Some(line) = fit_line(check) {
+            markers(&mut chart, pts, lk)?;
+            if let Some(line) = fit_line(check, pts) {
                 chart
                     .draw_series(DashedLineSeries::new(line, 9, 4, BLACK.stroke_width(1)))
                     .map_err(err)?;
@@ -409,13 +423,10 @@ pub fn invariants(stepper: &StepperCert) -> Result<Option<String>, PlotError> {
         .map(|(k, s)| (s.0.clone(), look(k)))
         .collect();
     svg_text(SIZE, |root| {
-        let root = root
-            .titled(
-                &format!("Invariant error over the long run: {}", stepper.name),
-                ("sans-serif", TITLE_FONT),
-            )
-            .map_err(err)?;
-        let (plot_area, legend_area) = root.split_horizontally(SIZE.0 - LEGEND_WIDTH);
+        let (plot_area, legend_area) = titled_with_legend(
+            root,
+            &format!("Invariant error over the long run: {}", stepper.name),
+        )?;
         let mut chart = ChartBuilder::on(&plot_area)
             .margin(12)
             .x_label_area_size(58)
