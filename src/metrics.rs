@@ -393,6 +393,57 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
     }
 }
 
+/// [`analyse_series`] over the rungs from `start` on only: the rungs before
+/// it are classed pre-asymptotic and never enter the fit, floor or plateau
+/// (the caller knows they are outside the asymptotic regime, for example
+/// the coarse tolerance rungs of an adaptive controller). Indices in the
+/// result refer to the whole series.
+///
+/// ```
+/// use drift::metrics::{analyse_series_from, RungClass};
+/// let x: Vec<f64> = (0..6).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
+/// let d = [Some(3.0), Some(2.0), Some(2.6), Some(3.2), Some(3.8), Some(4.4)];
+/// let a = analyse_series_from(&x, &d, &[100, 200, 400, 800, 1600, 3200], 2);
+/// assert_eq!(a.classes[0], RungClass::PreAsymptotic);
+/// assert_eq!(a.fit.unwrap().first, 2);
+/// assert!((a.fit.unwrap().order - 2.0).abs() < 0.01);
+/// ```
+pub fn analyse_series_from(
+    x: &[f64],
+    d: &[Option<f64>],
+    steps: &[u64],
+    start: usize,
+) -> SeriesAnalysis {
+    let n = x.len().min(d.len()).min(steps.len());
+    let start = start.min(n);
+    let mut a = analyse_series(&x[start..n], &d[start..n], &steps[start..n]);
+    a.shift(start, n);
+    a
+}
+
+impl SeriesAnalysis {
+    /// Re-indexes an analysis of `series[start..n]` to the whole series:
+    /// the first `start` rungs become pre-asymptotic.
+    fn shift(&mut self, start: usize, n: usize) {
+        if start == 0 {
+            return;
+        }
+        let mut classes = vec![RungClass::PreAsymptotic; start];
+        classes.append(&mut self.classes);
+        classes.truncate(n);
+        self.classes = classes;
+        if let Some(f) = &mut self.fit {
+            f.first += start;
+            f.last += start;
+        }
+        if let Some(b) = &mut self.best {
+            b.rung += start;
+        }
+        self.floor_from = self.floor_from.map(|k| k + start);
+        self.plateau_from = self.plateau_from.map(|k| k + start);
+    }
+}
+
 /// How the error of a conserved quantity grows over a long run.
 #[derive(
     Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize, serde::Deserialize,
