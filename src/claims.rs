@@ -70,6 +70,9 @@ pub struct Slack {
     pub period_digits: f64,
     /// Digits of reversibility.
     pub reversibility_digits: f64,
+    /// Drift exponent of an invariant: a worse drift class counts only
+    /// when the exponent also rose by more than this.
+    pub drift_exponent: f64,
 }
 
 impl Default for Slack {
@@ -80,6 +83,11 @@ impl Default for Slack {
             invariant_digits: 0.5,
             period_digits: 0.5,
             reversibility_digits: 1.0,
+            // Rounding moves the exponent of an invariant conserved to
+            // roundoff (a random walk, 0.5) by about 0.2 between equivalent
+            // orderings; broken symplecticity moves it by 1 (common
+            // practice, no source).
+            drift_exponent: 0.3,
         }
     }
 }

@@ -26,10 +26,34 @@ pub const FLOOR_FACTOR: f64 = 100.0;
 
 /// Rungs within this many digits of the floor are partly rounding and are
 /// left out of the order fit. Common practice, no source.
-pub const FLOOR_BAND: f64 = 1.0;
+pub const FLOOR_BAND: f64 = 2.0;
 
-/// The fit trims end points while its RMS residual (in digits) exceeds this.
-pub const FIT_RESIDUAL_GOAL: f64 = 0.02;
+/// Local slopes (digits per decade of resolution between neighbouring
+/// usable rungs) agree "within a band" when their spread, largest minus
+/// smallest, is at most `max(ORDER_BAND, ORDER_BAND_RELATIVE * slope)`.
+/// Common practice, no source: a method in its asymptotic range shows the
+/// same slope rung after rung to a few hundredths, and a band of 0.1 keeps
+/// a still-falling slope (4.35, 4.22, 4.14) out while letting last-bit
+/// noise in.
+pub const ORDER_BAND: f64 = 0.1;
+
+/// The band grows with the order for high-order methods (see [`ORDER_BAND`]).
+pub const ORDER_BAND_RELATIVE: f64 = 0.03;
+
+/// Local slopes an asymptotic range needs at least (four rungs): with two,
+/// a steady trend cannot be told from agreement. Common practice, no source.
+pub const MIN_RANGE_SLOPES: usize = 3;
+
+/// The least uncertainty an order reading is given, in orders: the
+/// rounding of stored figures to 3 decimals alone moves a slope over one
+/// doubling by up to 0.003 / log10(2). Common practice, no source.
+pub const MIN_ORDER_UNCERTAINTY: f64 = 0.01;
+
+/// The least uncertainty of a figure read at the roundoff floor, in
+/// digits: equivalent orderings of the same arithmetic move the rounding
+/// error of a run by a factor of 2 or so (measured on the neutral rewrites
+/// of the test steppers; common practice, no source).
+pub const FLOOR_NOISE: f64 = 0.3;
 
 /// Digits of a relative error: `-log10(err)`, clamped to `[0, MAX_DIGITS]`.
 /// An exact zero reads as [`MAX_DIGITS`]; a NaN or infinite error reads as 0.
@@ -181,39 +205,91 @@ pub fn fit_with_correction(x: &[f64], y: &[f64]) -> Option<(f64, f64)> {
 /// How one rung of a ladder was read.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 pub enum RungClass {
-    /// Error above 10 percent, or the coarse end trimmed from the fit.
+    /// Error above 10 percent, or coarser than the asymptotic range.
     #[serde(rename = "pre")]
     PreAsymptotic,
-    /// Used in the order fit.
+    /// In the range the order is read from.
     #[serde(rename = "fit")]
     Fitted,
-    /// Within [`FLOOR_BAND`] of the floor, or trimmed from the fine end.
+    /// Within [`FLOOR_BAND`] of the floor.
     #[serde(rename = "near-floor")]
     NearFloor,
     /// Stopped improving at a level rounding explains.
     #[serde(rename = "floor")]
     Floor,
-    /// Stopped improving far above what rounding explains: a consistency
-    /// error. Counts as order 0 and stays in the fit.
+    /// Stopped improving far above what rounding explains, and stayed
+    /// there: a consistency error. Counts as order 0 and stays in the fit.
     #[serde(rename = "plateau")]
     Plateau,
+    /// A single rung that fell back while its neighbours on both sides
+    /// agree on the trend (an isolated dip): noise, left out of the fit.
+    #[serde(rename = "dip")]
+    Dip,
     /// No figure at this rung (for example the finest rung of a
     /// self-convergence study).
     #[serde(rename = "none")]
     Missing,
 }
 
-/// The order fit of a series of rungs.
+/// What an order reading rests on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum FitStatus {
+    /// The local slopes agree within a band over at least
+    /// [`MIN_RANGE_SLOPES`] slopes at the fine end: the asymptotic range.
+    Asymptotic,
+    /// The local slopes still move at the fine end: the order shown is the
+    /// finest local slope, and the interval spans the last few slopes.
+    Converging,
+    /// A plateau far above rounding: the order counts as 0 from there.
+    Plateau,
+}
+
+impl FitStatus {
+    /// A lower-case name: `asymptotic`, `converging`, `plateau`.
+    ///
+    /// ```
+    /// assert_eq!(drift::metrics::FitStatus::Converging.name(), "converging");
+    /// ```
+    pub fn name(self) -> &'static str {
+        match self {
+            FitStatus::Asymptotic => "asymptotic",
+            FitStatus::Converging => "converging",
+            FitStatus::Plateau => "plateau",
+        }
+    }
+}
+
+/// The order read off a series of rungs, with the interval it lies in.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct OrderFit {
-    /// Slope of digits against log10(steps): the order of convergence.
+    /// The order of convergence: digits per decade of resolution.
     pub order: f64,
-    /// RMS residual of the fit, in digits.
+    /// RMS residual of the straight line over the range, in digits.
     pub residual: f64,
-    /// Index of the first rung used.
+    /// Index of the first rung of the range.
     pub first: usize,
-    /// Index of the last rung used.
+    /// Index of the last rung of the range.
     pub last: usize,
+    /// Lower end of the interval the order lies in.
+    pub low: f64,
+    /// Upper end of the interval the order lies in.
+    pub high: f64,
+    /// What the reading rests on.
+    pub status: FitStatus,
+}
+
+impl OrderFit {
+    /// Half the width of the interval: the reading's uncertainty.
+    ///
+    /// ```
+    /// use drift::metrics::{FitStatus, OrderFit};
+    /// let f = OrderFit { order: 4.0, residual: 0.0, first: 0, last: 5, low: 3.98, high: 4.02, status: FitStatus::Asymptotic };
+    /// assert!((f.uncertainty() - 0.02).abs() < 1e-12);
+    /// ```
+    pub fn uncertainty(&self) -> f64 {
+        ((self.high - self.low) / 2.0).max(0.0)
+    }
 }
 
 /// The best accuracy a series reached.
@@ -223,6 +299,10 @@ pub struct Best {
     pub digits: f64,
     /// At which rung.
     pub rung: usize,
+    /// Its uncertainty in digits: 0 when the best rung is truncation error
+    /// (stable under rewrites), at least [`FLOOR_NOISE`] when it lies at
+    /// the roundoff floor (rounding decides it).
+    pub uncertainty: f64,
 }
 
 /// Everything read off one series of digits over a ladder.
@@ -230,7 +310,7 @@ pub struct Best {
 pub struct SeriesAnalysis {
     /// One class per rung.
     pub classes: Vec<RungClass>,
-    /// The order fit, when at least two rungs qualify.
+    /// The order reading, when at least two rungs qualify.
     pub fit: Option<OrderFit>,
     /// The best digits reached anywhere on the ladder.
     pub best: Option<Best>,
@@ -240,156 +320,303 @@ pub struct SeriesAnalysis {
     pub plateau_from: Option<usize>,
 }
 
-/// Reads a series of digits over a ladder (DESIGN.md, "Measurement").
+/// Reads a series of digits over a ladder (DESIGN.md, "Measurement";
+/// DEVELOPERS.md, "Numerical rules in the order reading").
 ///
 /// `x[k]` is log10 of the resolution of rung k (steps per time unit, or
 /// right-hand-side evaluations), `d[k]` its digits (`None` where unknown) and
 /// `steps[k]` the total steps of its run, which sets the roundoff bound.
 ///
-/// Rules: leading rungs below [`PRE_ASYMPTOTIC_DIGITS`] are pre-asymptotic. A
-/// rung whose local slope falls below [`STALL_SLOPE`] has stopped improving;
-/// it is the floor when its digits reach [`rounding_digits`] of its run
-/// (error explained by rounding), and a plateau otherwise. From the floor on
-/// every rung is floor, and rungs within [`FLOOR_BAND`] digits of the floor
-/// level are left out too. A plateau stays in the fit, so a consistency
-/// error pulls the order towards 0. The fit then trims its end points (the
-/// coarse end first) while its residual exceeds [`FIT_RESIDUAL_GOAL`] and
-/// more than three rungs remain; a plateau is never trimmed. With four or
-/// more rungs left and no plateau the order comes from
-/// [`fit_with_correction`], else from the straight line.
+/// The rules, each in a function of its own:
+/// 1. leading rungs below [`PRE_ASYMPTOTIC_DIGITS`] are
+///    pre-asymptotic; a rung whose local slope falls below [`STALL_SLOPE`]
+///    has stopped improving: the floor when its digits reach
+///    [`rounding_digits`] of its run, an isolated dip when the next rung
+///    recovers the trend, and a plateau otherwise.
+/// 2. rungs within [`FLOOR_BAND`] digits of the floor level are near the
+///    floor and left out.
+/// 3. the order: with a plateau, the straight line through the usable and
+///    plateau rungs (at least 0); else the asymptotic range is the longest
+///    run of local slopes ending at the finest usable rung that agree within
+///    [`ORDER_BAND`], and it needs [`MIN_RANGE_SLOPES`] slopes. The order is
+///    then the fit with the leading correction of the error expansion
+///    ([`fit_with_correction`]) over that range, its interval the larger of
+///    half the slopes' spread, the correction's size, twice the slope's
+///    standard error and [`MIN_ORDER_UNCERTAINTY`]. Without such a range the
+///    reading is [`FitStatus::Converging`]: the finest local slope, in the
+///    interval of the last three.
 ///
 /// ```
-/// use drift::metrics::{analyse_series, RungClass};
-/// // A fourth-order method: 1.2 more digits per doubling, floor at 13.
+/// use drift::metrics::{analyse_series, FitStatus, RungClass};
+/// // A fourth-order method: 1.2 more digits per doubling, floor at 12.
 /// let x: Vec<f64> = (0..11).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
 /// let d: Vec<Option<f64>> = (0..11).map(|k| Some((2.0 + 1.204 * k as f64).min(12.0))).collect();
 /// let steps: Vec<u64> = (0..11).map(|k| 1600 << k).collect();
 /// let a = analyse_series(&x, &d, &steps);
-/// assert!((a.fit.unwrap().order - 4.0).abs() < 0.01);
+/// let fit = a.fit.unwrap();
+/// assert_eq!(fit.status, FitStatus::Asymptotic);
+/// assert!((fit.order - 4.0).abs() < 0.01 && fit.low <= 4.0 && 4.0 <= fit.high);
 /// assert_eq!(a.classes[10], RungClass::Floor);
 /// assert_eq!(a.classes[9], RungClass::NearFloor);
 /// assert!(a.plateau_from.is_none());
 /// ```
 pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnalysis {
     let n = x.len().min(d.len()).min(steps.len());
-    let mut classes = vec![RungClass::Missing; n];
     let known: Vec<usize> = (0..n)
         .filter(|&k| d[k].is_some_and(f64::is_finite))
         .collect();
-    let best = known
-        .iter()
-        .map(|&k| Best {
-            digits: d[k].unwrap_or(0.0),
-            rung: k,
-        })
-        .fold(None, |acc: Option<Best>, b| match acc {
-            Some(a) if a.digits >= b.digits => Some(a),
-            _ => Some(b),
-        });
+    let digit = |k: usize| d[k].unwrap_or(0.0);
+    let mut classes = vec![RungClass::Missing; n];
+    let (floor_from, plateau_from) = classify(x, &digit, steps, &known, &mut classes);
+    let level = floor_from.map(|f| floor_level(&digit, &known, f));
+    if let Some(level) = level {
+        for &k in &known {
+            if classes[k] == RungClass::Fitted && digit(k) > level - FLOOR_BAND {
+                classes[k] = RungClass::NearFloor;
+            }
+        }
+    }
+    let fit = match plateau_from {
+        Some(_) => plateau_reading(x, &digit, &known, &classes),
+        None => order_reading(x, &digit, &known, &mut classes),
+    };
+    SeriesAnalysis {
+        best: best_of(&digit, &known, &classes),
+        classes,
+        fit,
+        floor_from,
+        plateau_from,
+    }
+}
 
-    let mut floor_from = None;
-    let mut plateau_from = None;
+/// Local slope between rungs `j` and `k`: digits per decade of resolution.
+fn slope(x: &[f64], digit: &impl Fn(usize) -> f64, j: usize, k: usize) -> Option<f64> {
+    let dx = x[k] - x[j];
+    (dx > 0.0 && dx.is_finite()).then(|| (digit(k) - digit(j)) / dx)
+}
+
+/// Rule 1: pre-asymptotic rungs, the floor, plateaus and isolated dips.
+/// Every other known rung is classed fitted (usable). Returns the first
+/// floor and the first plateau rung.
+fn classify(
+    x: &[f64],
+    digit: &impl Fn(usize) -> f64,
+    steps: &[u64],
+    known: &[usize],
+    classes: &mut [RungClass],
+) -> (Option<usize>, Option<usize>) {
+    let (mut floor_from, mut plateau_from) = (None, None);
     let mut started = false;
     let mut prev: Option<usize> = None;
-    for &k in &known {
-        let dk = d[k].unwrap_or(0.0);
+    for (i, &k) in known.iter().enumerate() {
         if floor_from.is_some() {
             classes[k] = RungClass::Floor;
             continue;
         }
-        if !started && dk < PRE_ASYMPTOTIC_DIGITS {
+        if !started && digit(k) < PRE_ASYMPTOTIC_DIGITS {
             classes[k] = RungClass::PreAsymptotic;
             prev = Some(k);
             continue;
         }
         started = true;
-        let stalled = prev.is_some_and(|j| {
-            let dx = x[k] - x[j];
-            dx > 0.0 && (dk - d[j].unwrap_or(0.0)) / dx < STALL_SLOPE
-        });
-        classes[k] = if !stalled {
-            if plateau_from.is_some() {
+        let stalled_from = |j: usize| slope(x, digit, j, k).is_some_and(|s| s < STALL_SLOPE);
+        if !prev.is_some_and(stalled_from) {
+            classes[k] = if plateau_from.is_some() {
                 RungClass::Plateau
             } else {
                 RungClass::Fitted
-            }
-        } else if dk >= rounding_digits(steps[k]) {
+            };
+            prev = Some(k);
+            continue;
+        }
+        if digit(k) >= rounding_digits(steps[k]) {
             floor_from = Some(k);
-            RungClass::Floor
-        } else {
-            plateau_from.get_or_insert(k);
-            RungClass::Plateau
-        };
+            classes[k] = RungClass::Floor;
+            continue;
+        }
+        // A dip: the next rung improves on both this one and the rung
+        // before it, so the trend never stopped.
+        let recovers = known.get(i + 1).is_some_and(|&next| {
+            let up = |j: usize| slope(x, digit, j, next).is_some_and(|s| s >= STALL_SLOPE);
+            up(k) && prev.is_some_and(up)
+        });
+        if recovers && plateau_from.is_none() {
+            classes[k] = RungClass::Dip;
+            continue;
+        }
+        plateau_from.get_or_insert(k);
+        classes[k] = RungClass::Plateau;
         prev = Some(k);
     }
+    (floor_from, plateau_from)
+}
 
-    if let Some(f) = floor_from {
-        let level = known
+/// The floor level: the most digits on the floor.
+fn floor_level(digit: &impl Fn(usize) -> f64, known: &[usize], floor_from: usize) -> f64 {
+    known
+        .iter()
+        .filter(|&&k| k >= floor_from)
+        .map(|&k| digit(k))
+        .fold(f64::MIN, f64::max)
+}
+
+/// The best digits and their uncertainty: when the best rung lies at or
+/// near the floor, half the spread between it and the floor rungs (at
+/// least [`FLOOR_NOISE`]), since rounding decides where in that band a run
+/// lands.
+fn best_of(digit: &impl Fn(usize) -> f64, known: &[usize], classes: &[RungClass]) -> Option<Best> {
+    let &rung = known
+        .iter()
+        .fold(None, |acc: Option<&usize>, k| match acc {
+            Some(a) if digit(*a) >= digit(*k) => Some(a),
+            _ => Some(k),
+        })?;
+    let uncertainty = if matches!(classes[rung], RungClass::Floor | RungClass::NearFloor) {
+        let lowest = known
             .iter()
-            .filter(|&&k| k >= f)
-            .map(|&k| d[k].unwrap_or(0.0))
-            .fold(f64::MIN, f64::max);
-        for &k in &known {
-            if classes[k] == RungClass::Fitted && d[k].unwrap_or(0.0) > level - FLOOR_BAND {
-                classes[k] = RungClass::NearFloor;
-            }
-        }
-    }
+            .filter(|&&k| classes[k] == RungClass::Floor)
+            .map(|&k| digit(k))
+            .fold(digit(rung), f64::min);
+        ((digit(rung) - lowest) / 2.0).max(FLOOR_NOISE)
+    } else {
+        0.0
+    };
+    Some(Best {
+        digits: digit(rung),
+        rung,
+        uncertainty,
+    })
+}
 
-    let mut used: Vec<usize> = known
+/// Straight line through rungs `idx`.
+fn line_through(x: &[f64], digit: &impl Fn(usize) -> f64, idx: &[usize]) -> Option<Line> {
+    let xs: Vec<f64> = idx.iter().map(|&k| x[k]).collect();
+    let ys: Vec<f64> = idx.iter().map(|&k| digit(k)).collect();
+    fit_line(&xs, &ys)
+}
+
+/// Rule 3 with a plateau: the line through the usable and plateau rungs,
+/// read as at least 0 (a plateau counts as order 0).
+fn plateau_reading(
+    x: &[f64],
+    digit: &impl Fn(usize) -> f64,
+    known: &[usize],
+    classes: &[RungClass],
+) -> Option<OrderFit> {
+    let used: Vec<usize> = known
         .iter()
         .copied()
         .filter(|&k| matches!(classes[k], RungClass::Fitted | RungClass::Plateau))
         .collect();
-    let line_of = |idx: &[usize]| {
-        let xs: Vec<f64> = idx.iter().map(|&k| x[k]).collect();
-        let ys: Vec<f64> = idx.iter().map(|&k| d[k].unwrap_or(0.0)).collect();
-        fit_line(&xs, &ys)
-    };
-    let mut line = line_of(&used);
-    while let Some(l) = line {
-        if l.residual <= FIT_RESIDUAL_GOAL || used.len() <= 3 {
+    let line = line_through(x, digit, &used)?;
+    let order = line.slope.max(0.0);
+    Some(OrderFit {
+        order,
+        residual: line.residual,
+        first: used[0],
+        last: used[used.len() - 1],
+        low: order,
+        high: order,
+        status: FitStatus::Plateau,
+    })
+}
+
+/// The band local slopes around `p` must agree within.
+fn band(p: f64) -> f64 {
+    ORDER_BAND.max(ORDER_BAND_RELATIVE * p.abs())
+}
+
+/// Rule 3 without a plateau: the asymptotic range at the fine end, or a
+/// converging reading. Usable rungs coarser than an asymptotic range are
+/// reclassed pre-asymptotic.
+fn order_reading(
+    x: &[f64],
+    digit: &impl Fn(usize) -> f64,
+    known: &[usize],
+    classes: &mut [RungClass],
+) -> Option<OrderFit> {
+    let used: Vec<usize> = known
+        .iter()
+        .copied()
+        .filter(|&k| classes[k] == RungClass::Fitted)
+        .collect();
+    let slopes: Vec<f64> = used
+        .windows(2)
+        .map(|w| slope(x, digit, w[0], w[1]))
+        .collect::<Option<_>>()?;
+    let last_slope = *slopes.last()?;
+    // The longest run of slopes ending at the finest that agree in a band.
+    let mut start = slopes.len() - 1;
+    let (mut lo, mut hi) = (last_slope, last_slope);
+    while start > 0 {
+        let s = slopes[start - 1];
+        let (l, h) = (lo.min(s), hi.max(s));
+        if h - l > band((l + h) / 2.0) {
             break;
         }
-        // Trim the end point with the larger residual, never a plateau rung.
-        let res = |k: usize| (d[k].unwrap_or(0.0) - l.intercept - l.slope * x[k]).abs();
-        let (first, last) = (used[0], used[used.len() - 1]);
-        let trim_last = classes[last] != RungClass::Plateau && res(last) > res(first);
-        if trim_last {
-            classes[last] = RungClass::NearFloor;
-            used.pop();
-        } else if classes[first] != RungClass::Plateau {
-            classes[first] = RungClass::PreAsymptotic;
-            used.remove(0);
-        } else {
-            break;
-        }
-        line = line_of(&used);
+        (lo, hi, start) = (l, h, start - 1);
     }
-    // With four or more rungs and no plateau, the order is fitted with the
-    // leading correction term; otherwise it is the plain slope.
-    let corrected = if plateau_from.is_none() {
-        let xs: Vec<f64> = used.iter().map(|&k| x[k]).collect();
-        let ys: Vec<f64> = used.iter().map(|&k| d[k].unwrap_or(0.0)).collect();
-        fit_with_correction(&xs, &ys)
-    } else {
-        None
-    };
-    let fit = line.map(|l| {
-        let (order, residual) = corrected.unwrap_or((l.slope, l.residual));
-        OrderFit {
-            order,
-            residual,
+    let range = &used[start..];
+    let line = line_through(x, digit, range)?;
+    if slopes.len() - start < MIN_RANGE_SLOPES {
+        let tail = &slopes[slopes.len().saturating_sub(3)..];
+        let (low, high) = tail
+            .iter()
+            .fold((f64::MAX, f64::MIN), |(l, h), &s| (l.min(s), h.max(s)));
+        let all = line_through(x, digit, &used)?;
+        return Some(OrderFit {
+            order: last_slope,
+            residual: all.residual,
             first: used[0],
             last: used[used.len() - 1],
-        }
-    });
-    SeriesAnalysis {
-        classes,
-        fit,
-        best,
-        floor_from,
-        plateau_from,
+            low,
+            high,
+            status: FitStatus::Converging,
+        });
+    }
+    for &k in &used[..start] {
+        classes[k] = RungClass::PreAsymptotic;
+    }
+    let xs: Vec<f64> = range.iter().map(|&k| x[k]).collect();
+    let ys: Vec<f64> = range.iter().map(|&k| digit(k)).collect();
+    // The correction term is trusted only while it stays inside the band.
+    let corrected = fit_with_correction(&xs, &ys)
+        .map(|(p, _)| p)
+        .filter(|p| p.is_finite() && (p - line.slope).abs() <= band(line.slope));
+    let order = corrected.unwrap_or(line.slope);
+    let u = [
+        (hi - lo) / 2.0,
+        (order - line.slope).abs(),
+        2.0 * slope_standard_error(&xs, &ys, &line),
+        MIN_ORDER_UNCERTAINTY,
+    ]
+    .into_iter()
+    .fold(0.0, f64::max);
+    Some(OrderFit {
+        order,
+        residual: line.residual,
+        first: range[0],
+        last: range[range.len() - 1],
+        low: order - u,
+        high: order + u,
+        status: FitStatus::Asymptotic,
+    })
+}
+
+/// Standard error of a least-squares slope (0 with two points, where the
+/// line is exact).
+fn slope_standard_error(x: &[f64], y: &[f64], line: &Line) -> f64 {
+    let n = x.len().min(y.len());
+    if n < 3 {
+        return 0.0;
+    }
+    let mx = x[..n].iter().sum::<f64>() / n as f64;
+    let sxx: f64 = x[..n].iter().map(|a| (a - mx).powi(2)).sum();
+    let ss = line.residual.powi(2) * n as f64;
+    if sxx > 0.0 {
+        (ss / (n - 2) as f64 / sxx).sqrt()
+    } else {
+        0.0
     }
 }
 
@@ -401,9 +628,9 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
 ///
 /// ```
 /// use drift::metrics::{analyse_series_from, RungClass};
-/// let x: Vec<f64> = (0..6).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
-/// let d = [Some(3.0), Some(2.0), Some(2.6), Some(3.2), Some(3.8), Some(4.4)];
-/// let a = analyse_series_from(&x, &d, &[100, 200, 400, 800, 1600, 3200], 2);
+/// let x: Vec<f64> = (0..7).map(|k| (16.0 * 2f64.powi(k)).log10()).collect();
+/// let d = [Some(3.0), Some(2.0), Some(2.6), Some(3.2), Some(3.8), Some(4.4), Some(5.0)];
+/// let a = analyse_series_from(&x, &d, &[100, 200, 400, 800, 1600, 3200, 6400], 2);
 /// assert_eq!(a.classes[0], RungClass::PreAsymptotic);
 /// assert_eq!(a.fit.unwrap().first, 2);
 /// assert!((a.fit.unwrap().order - 2.0).abs() < 0.01);
@@ -473,14 +700,26 @@ impl DriftClass {
     /// assert_eq!(DriftClass::of_exponent(2.0), DriftClass::Growing);
     /// ```
     pub fn of_exponent(e: f64) -> DriftClass {
-        if e < 0.25 {
-            DriftClass::Bounded
-        } else if e < 0.75 {
-            DriftClass::RandomWalk
-        } else if e < 1.3 {
-            DriftClass::Linear
-        } else {
-            DriftClass::Growing
+        [DriftClass::Bounded, DriftClass::RandomWalk, DriftClass::Linear]
+            .into_iter()
+            .find(|c| e < c.upper_exponent())
+            .unwrap_or(DriftClass::Growing)
+    }
+
+    /// The largest exponent of the class (the boundary to the next):
+    /// 0.25, 0.75, 1.3, and infinity for `growing`.
+    ///
+    /// ```
+    /// use drift::metrics::DriftClass;
+    /// assert_eq!(DriftClass::Bounded.upper_exponent(), 0.25);
+    /// assert_eq!(DriftClass::of_exponent(DriftClass::Linear.upper_exponent() - 1e-9), DriftClass::Linear);
+    /// ```
+    pub fn upper_exponent(self) -> f64 {
+        match self {
+            DriftClass::Bounded => 0.25,
+            DriftClass::RandomWalk => 0.75,
+            DriftClass::Linear => 1.3,
+            DriftClass::Growing => f64::INFINITY,
         }
     }
 

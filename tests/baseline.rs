@@ -15,7 +15,7 @@ use drift::claims::{Claims, EnergyClaim, Slack};
 use drift::measure::{
     Basis, InvariantReport, LongRunReport, Measurement, MethodKind, PeriodReport, Resolution, Rung,
 };
-use drift::metrics::{Best, DriftClass, DriftFit, OrderFit, RungClass, SeriesAnalysis};
+use drift::metrics::{Best, DriftClass, DriftFit, FitStatus, OrderFit, RungClass, SeriesAnalysis};
 
 const FILE: &str = "drift-baseline.toml";
 
@@ -57,10 +57,14 @@ fn measurement() -> Measurement {
             residual: 0.001,
             first: 0,
             last: 4,
+            low: 3.98,
+            high: 4.02,
+            status: FitStatus::Asymptotic,
         }),
         best: Some(Best {
             digits: best,
             rung: 5,
+            uncertainty: 0.3,
         }),
         floor_from: None,
         plateau_from: None,
@@ -128,10 +132,14 @@ fn tolerance_measurement() -> Measurement {
                 residual: 0.0,
                 first: 0,
                 last: 1,
+                low: 4.9,
+                high: 5.1,
+                status: FitStatus::Converging,
             }),
             best: Some(Best {
                 digits: 5.25,
                 rung: 1,
+                uncertainty: 0.0,
             }),
             floor_from: None,
             plateau_from: None,
@@ -377,35 +385,83 @@ fn identical_figures_pass() {
     assert_eq!(metrics, vec!["order", "best digits"]);
 }
 
+/// Sets the order reading of `r` to `order` with uncertainty `u`.
+fn set_order(r: &mut CheckRecord, order: f64, u: f64, status: FitStatus) {
+    let f = r.fit.as_mut().unwrap();
+    (f.order, f.low, f.high, f.status) = (order, order - u, order + u, status);
+}
+
 #[test]
 fn lower_order_regresses() {
     let base = record();
     let mut now = base.clone();
-    now.fit.as_mut().unwrap().order = 3.7;
+    set_order(&mut now, 3.7, 0.02, FitStatus::Asymptotic);
     let j = judge_default(&now, Some(&base), &Claims::default());
     assert_eq!(j.verdict, Verdict::Regressed);
     assert_eq!(status_of(&j, "order"), Some(RowStatus::Worse));
     let row = &j.rows[0];
     assert_eq!((row.baseline, row.now), (Some(4.0), Some(3.7)));
-    assert_eq!(row.allowed, ">= 3.90");
+    // slack 0.1 plus the two uncertainties of 0.02 added in quadrature.
+    assert_eq!(row.allowed, ">= 3.87");
     let table = j.table();
-    assert!(table.lines().all(|l| l.chars().count() <= 80), "{table}");
     assert!(table.contains("4.00") && table.contains("3.70") && table.contains("worse"));
+}
+
+#[test]
+fn an_order_moves_only_beyond_its_uncertainty() {
+    let base = record();
+    let mut now = base.clone();
+    // 0.15 lower, but each reading is uncertain by 0.1: within slack 0.1
+    // plus 0.14.
+    set_order(&mut now, 3.85, 0.1, FitStatus::Asymptotic);
+    let mut base_wide = base.clone();
+    set_order(&mut base_wide, 4.0, 0.1, FitStatus::Asymptotic);
+    let j = judge_default(&now, Some(&base_wide), &Claims::default());
+    assert_eq!(j.verdict, Verdict::Pass, "{}", j.table());
+    // With tight readings the same move regresses.
+    set_order(&mut now, 3.85, 0.01, FitStatus::Asymptotic);
+    let j = judge_default(&now, Some(&base), &Claims::default());
+    assert_eq!(j.verdict, Verdict::Regressed, "{}", j.table());
+}
+
+#[test]
+fn a_converging_order_is_shown_but_not_gated() {
+    let base = record();
+    let mut now = base.clone();
+    set_order(&mut now, 3.0, 0.2, FitStatus::Converging);
+    let j = judge_default(&now, Some(&base), &Claims::default());
+    assert_eq!(j.verdict, Verdict::Pass, "{}", j.table());
+    let row = &j.rows[0];
+    assert_eq!(row.now, Some(3.0));
+    assert!(row.allowed.contains("not gated"), "{}", row.allowed);
+    // The digits of its rungs are still judged.
+    now.digits[2] = now.digits[2].map(|d| d - 1.0);
+    let j = judge_default(&now, Some(&base), &Claims::default());
+    assert_eq!(j.verdict, Verdict::Regressed, "{}", j.table());
 }
 
 #[test]
 fn fewer_best_digits_regress() {
     let base = record();
     let mut now = base.clone();
-    now.best.as_mut().unwrap().digits -= 0.6;
+    now.best.as_mut().unwrap().digits -= 1.0;
     let j = judge_default(&now, Some(&base), &Claims::default());
     assert_eq!(j.verdict, Verdict::Regressed);
     assert_eq!(status_of(&j, "best digits"), Some(RowStatus::Worse));
-    // 0.4 digits is inside the default slack of 0.5.
-    now.best.as_mut().unwrap().digits += 0.2;
+    // 0.6 digits is inside slack 0.5 plus the floor noise of the two
+    // readings (0.3 each, in quadrature: 0.42).
+    now.best.as_mut().unwrap().digits += 0.4;
     assert_eq!(
         judge_default(&now, Some(&base), &Claims::default()).verdict,
         Verdict::Pass
+    );
+    // Best digits read off truncation error carry no floor noise.
+    let mut base = base;
+    base.best.as_mut().unwrap().uncertainty = 0.0;
+    now.best.as_mut().unwrap().uncertainty = 0.0;
+    assert_eq!(
+        judge_default(&now, Some(&base), &Claims::default()).verdict,
+        Verdict::Regressed
     );
 }
 
@@ -446,7 +502,7 @@ fn no_baseline_is_new() {
 #[test]
 fn order_claim_is_checked_without_a_baseline() {
     let mut r = record();
-    r.fit.as_mut().unwrap().order = 1.0;
+    set_order(&mut r, 1.0, 0.01, FitStatus::Asymptotic);
     let claims = Claims {
         order: Some(4.0),
         ..Claims::default()
@@ -455,14 +511,25 @@ fn order_claim_is_checked_without_a_baseline() {
     assert_eq!(j.verdict, Verdict::ClaimViolated);
     assert_eq!(status_of(&j, "claim: order"), Some(RowStatus::Violated));
     // Within ORDER_CLAIM_BAND (0.2) of the claim it holds.
-    r.fit.as_mut().unwrap().order = 3.85;
+    set_order(&mut r, 3.85, 0.01, FitStatus::Asymptotic);
     assert_eq!(judge_default(&r, None, &claims).verdict, Verdict::New);
-    // No fit at all is a violation too.
-    r.fit = None;
+    // A converging reading wholly below the band violates it; one that
+    // straddles it cannot be judged here, and says so.
+    set_order(&mut r, 3.2, 0.1, FitStatus::Converging);
     assert_eq!(
         judge_default(&r, None, &claims).verdict,
         Verdict::ClaimViolated
     );
+    set_order(&mut r, 3.8, 0.3, FitStatus::Converging);
+    let j = judge_default(&r, None, &claims);
+    assert_eq!(j.verdict, Verdict::New, "{}", j.table());
+    assert_eq!(status_of(&j, "claim: order"), Some(RowStatus::Unmeasured));
+    assert!(j.table().contains("not measurable here"), "{}", j.table());
+    // No fit at all: not measurable on this problem, not a violation.
+    r.fit = None;
+    let j = judge_default(&r, None, &claims);
+    assert_eq!(j.verdict, Verdict::New);
+    assert_eq!(status_of(&j, "claim: order"), Some(RowStatus::Unmeasured));
 }
 
 #[test]
@@ -484,7 +551,10 @@ fn energy_claim_against_linear_drift_is_violated() {
     // Against the baseline the drift class got worse too.
     let j = judge_default(&r, Some(&record()), &linear);
     assert_eq!(j.verdict, Verdict::Regressed);
-    assert_eq!(status_of(&j, "energy drift fwd"), Some(RowStatus::Worse));
+    assert_eq!(
+        status_of(&j, "energy drift exponent fwd"),
+        Some(RowStatus::Worse)
+    );
     // A problem with no energy invariant: the claim does not apply.
     let mut m = measurement();
     m.invariants[0].name = "angular momentum".into();
@@ -548,7 +618,7 @@ fn a_new_plateau_regresses() {
     let j = judge_default(&now, Some(&base), &Claims::default());
     assert_eq!(j.verdict, Verdict::Regressed);
     assert_eq!(
-        status_of(&j, "plateau (first rung)"),
+        status_of(&j, "plateau"),
         Some(RowStatus::Worse)
     );
     // With an order claim, the plateau violates it even at the right slope.

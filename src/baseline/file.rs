@@ -13,7 +13,7 @@ use toml::Spanned;
 use super::record::{CheckRecord, DriftRecord, InvariantRecord, LadderRecord};
 use super::Header;
 use crate::measure::{Basis, MethodKind};
-use crate::metrics::{Best, DriftClass, OrderFit, RungClass, MAX_DIGITS};
+use crate::metrics::{Best, DriftClass, FitStatus, OrderFit, RungClass, MAX_DIGITS};
 
 /// Digits value that stands for "no figure at this rung".
 pub(super) const NO_FIGURE: f64 = -1.0;
@@ -68,9 +68,13 @@ pub(super) struct RawCheck {
     classes: Vec<RungClass>,
     order: Option<f64>,
     order_residual: Option<f64>,
+    order_low: Option<f64>,
+    order_high: Option<f64>,
+    order_status: Option<FitStatus>,
     fit_from: Option<usize>,
     fit_to: Option<usize>,
     best_digits: Option<f64>,
+    best_uncertainty: Option<f64>,
     best_rung: Option<usize>,
     plateau_from: Option<usize>,
     floor_from: Option<usize>,
@@ -88,6 +92,7 @@ pub(super) struct RawCheck {
 #[serde(deny_unknown_fields)]
 struct RawInvariant {
     best_digits: Option<f64>,
+    best_uncertainty: Option<f64>,
     order: Option<f64>,
     drift_forward: Option<DriftClass>,
     drift_forward_exponent: Option<f64>,
@@ -127,6 +132,7 @@ impl From<&CheckRecord> for RawCheck {
                 let (drift_backward, drift_backward_exponent) = split_drift(inv.drift_backward);
                 let raw = RawInvariant {
                     best_digits: inv.best_digits,
+                    best_uncertainty: inv.best_digits.map(|_| inv.best_uncertainty),
                     order: inv.order,
                     drift_forward,
                     drift_forward_exponent,
@@ -145,9 +151,13 @@ impl From<&CheckRecord> for RawCheck {
             classes: r.classes.clone(),
             order: r.fit.map(|f| f.order),
             order_residual: r.fit.map(|f| f.residual),
+            order_low: r.fit.map(|f| f.low),
+            order_high: r.fit.map(|f| f.high),
+            order_status: r.fit.map(|f| f.status),
             fit_from: r.fit.map(|f| f.first),
             fit_to: r.fit.map(|f| f.last),
             best_digits: r.best.map(|b| b.digits),
+            best_uncertainty: r.best.map(|b| b.uncertainty),
             best_rung: r.best.map(|b| b.rung),
             plateau_from: r.plateau_from,
             floor_from: r.floor_from,
@@ -215,11 +225,25 @@ impl RawCheck {
             rung("fit_to", self.fit_to)?,
         ) {
             (Some(order), Some(residual), Some(first), Some(last)) if first <= last => {
+                // Files written before readings carried an interval read
+                // as asymptotic with no uncertainty (slack alone).
+                let (low, high) = (
+                    self.order_low.unwrap_or(order),
+                    self.order_high.unwrap_or(order),
+                );
+                if !(low <= order && order <= high) {
+                    return Err(format!(
+                        "`order` = {order} must lie in [`order_low`, `order_high`] = [{low}, {high}]"
+                    ));
+                }
                 Some(OrderFit {
                     order,
                     residual,
                     first,
                     last,
+                    low,
+                    high,
+                    status: self.order_status.unwrap_or(FitStatus::Asymptotic),
                 })
             }
             (None, None, None, None) => None,
@@ -231,7 +255,11 @@ impl RawCheck {
             }
         };
         let best = match (self.best_digits, rung("best_rung", self.best_rung)?) {
-            (Some(digits), Some(rung)) => Some(Best { digits, rung }),
+            (Some(digits), Some(rung)) => Some(Best {
+                digits,
+                rung,
+                uncertainty: uncertainty("best_uncertainty", self.best_uncertainty)?,
+            }),
             (None, None) => None,
             _ => return Err("`best_digits` and `best_rung` go together".into()),
         };
@@ -241,6 +269,7 @@ impl RawCheck {
             .map(|(name, raw)| {
                 let inv = InvariantRecord {
                     best_digits: raw.best_digits,
+                    best_uncertainty: uncertainty("best_uncertainty", raw.best_uncertainty)?,
                     order: raw.order,
                     drift_forward: join_drift(
                         raw.drift_forward,
@@ -273,6 +302,16 @@ impl RawCheck {
             reversibility_digits: self.reversibility_digits,
             diverged_at: self.diverged_at,
         })
+    }
+}
+
+/// An uncertainty in digits: absent reads as 0 (older files), else it
+/// must be finite and non-negative.
+fn uncertainty(name: &str, u: Option<f64>) -> Result<f64, String> {
+    match u {
+        None => Ok(0.0),
+        Some(u) if u.is_finite() && u >= 0.0 => Ok(u),
+        Some(u) => Err(format!("`{name}` = {u} must be a finite number >= 0")),
     }
 }
 

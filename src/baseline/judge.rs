@@ -4,10 +4,10 @@
 
 use std::fmt;
 
-use super::record::{CheckRecord, DriftRecord};
+use super::record::{CheckRecord, DriftRecord, InvariantRecord};
 use crate::claims::{Claims, EnergyClaim, Slack, ORDER_CLAIM_BAND, REVERSIBLE_DIGITS};
 use crate::measure::Basis;
-use crate::metrics::DriftClass;
+use crate::metrics::{DriftClass, FitStatus, OrderFit, RungClass};
 
 /// Differences this small are representation noise of the rounded decimals,
 /// not changes (the stored figures have 3 decimals).
@@ -80,10 +80,13 @@ pub enum RowStatus {
     Worse,
     /// A claim does not hold.
     Violated,
+    /// A claim cannot be measured on this check (the limit column says
+    /// why); it neither holds nor fails here.
+    Unmeasured,
 }
 
 impl RowStatus {
-    /// Lower-case name: `ok`, `better`, `worse`, `violated`.
+    /// Lower-case name: `ok`, `better`, `worse`, `violated`, `unmeasured`.
     ///
     /// ```
     /// assert_eq!(drift::baseline::RowStatus::Worse.name(), "worse");
@@ -94,6 +97,7 @@ impl RowStatus {
             RowStatus::Better => "better",
             RowStatus::Worse => "worse",
             RowStatus::Violated => "violated",
+            RowStatus::Unmeasured => "unmeasured",
         }
     }
 }
@@ -126,10 +130,6 @@ pub struct Judgement {
     pub rows: Vec<MetricRow>,
 }
 
-const METRIC_WIDTH: usize = 26;
-const VALUE_WIDTH: usize = 8;
-const LIMIT_WIDTH: usize = 20;
-
 /// `s` cut to `width` characters, a cut marked with `~`.
 pub(crate) fn clip(s: &str, width: usize) -> String {
     if s.chars().count() <= width {
@@ -141,45 +141,79 @@ pub(crate) fn clip(s: &str, width: usize) -> String {
     }
 }
 
+/// A figure to 2 decimals, `-` when absent.
+pub(crate) fn figure(v: Option<f64>) -> String {
+    v.map_or_else(|| "-".to_string(), |v| format!("{v:.2}"))
+}
+
+/// Lines of a figures table: figure, recorded, measured, limit, status.
+/// Columns are as wide as their widest cell, so no label or limit is cut.
+pub(crate) fn row_lines(cells: &[[String; 5]]) -> Vec<String> {
+    let head = [
+        "figure".to_string(),
+        "recorded".into(),
+        "measured".into(),
+        "limit".into(),
+        "status".into(),
+    ];
+    let width = |c: usize| {
+        std::iter::once(&head)
+            .chain(cells)
+            .map(|r| r[c].chars().count())
+            .max()
+            .unwrap_or(0)
+    };
+    let w: Vec<usize> = (0..4).map(width).collect();
+    std::iter::once(&head)
+        .chain(cells)
+        .map(|r| {
+            format!(
+                "{:<w0$}  {:>w1$}  {:>w2$}  {:<w3$}  {}",
+                r[0],
+                r[1],
+                r[2],
+                r[3],
+                r[4],
+                w0 = w[0],
+                w1 = w[1],
+                w2 = w[2],
+                w3 = w[3]
+            )
+            .trim_end()
+            .to_string()
+        })
+        .collect()
+}
+
 impl Judgement {
-    /// The rows as a fixed-width table of at most 78 columns: figure,
-    /// recorded value, measured value, limit, status; values to 2 decimals,
-    /// `-` where there is none.
+    /// The rows as a table: figure, recorded value, measured value, limit,
+    /// status; values to 2 decimals, `-` where there is none. Columns are
+    /// as wide as their widest cell.
     ///
     /// ```
     /// use drift::baseline::{Judgement, MetricRow, RowStatus, Verdict};
     /// let j = Judgement { verdict: Verdict::Regressed, rows: vec![MetricRow {
-    ///     metric: "order".into(), baseline: Some(4.0), now: Some(3.7),
+    ///     metric: "angular_momentum best digits".into(), baseline: Some(4.0), now: Some(3.7),
     ///     allowed: ">= 3.90".into(), status: RowStatus::Worse }] };
     /// let t = j.table();
-    /// assert!(t.lines().nth(1).unwrap().contains("4.00      3.70  >= 3.90"));
-    /// assert!(t.lines().all(|l| l.chars().count() <= 80));
+    /// assert!(t.lines().nth(1).unwrap().starts_with("angular_momentum best digits      4.00      3.70  >= 3.90"));
     /// ```
     pub fn table(&self) -> String {
-        let value = |v: Option<f64>| v.map_or("-".to_string(), |v| format!("{v:.2}"));
-        let mut out = format!(
-            "{:<mw$}  {:>vw$}  {:>vw$}  {:<lw$}  status\n",
-            "figure",
-            "recorded",
-            "measured",
-            "limit",
-            mw = METRIC_WIDTH,
-            vw = VALUE_WIDTH,
-            lw = LIMIT_WIDTH
-        );
-        for r in &self.rows {
-            out.push_str(&format!(
-                "{:<mw$}  {:>vw$}  {:>vw$}  {:<lw$}  {}\n",
-                clip(&r.metric, METRIC_WIDTH),
-                value(r.baseline),
-                value(r.now),
-                clip(&r.allowed, LIMIT_WIDTH),
-                r.status.name(),
-                mw = METRIC_WIDTH,
-                vw = VALUE_WIDTH,
-                lw = LIMIT_WIDTH
-            ));
-        }
+        let cells: Vec<[String; 5]> = self
+            .rows
+            .iter()
+            .map(|r| {
+                [
+                    r.metric.clone(),
+                    figure(r.baseline),
+                    figure(r.now),
+                    r.allowed.clone(),
+                    r.status.name().to_string(),
+                ]
+            })
+            .collect();
+        let mut out = row_lines(&cells).join("\n");
+        out.push('\n');
         out
     }
 }
@@ -188,35 +222,61 @@ impl Judgement {
 #[derive(Default)]
 struct Rows(Vec<(MetricRow, bool)>);
 
+/// A figure with the uncertainty its own data give it.
+#[derive(Clone, Copy, Debug)]
+struct Reading {
+    value: f64,
+    uncertainty: f64,
+}
+
+impl Reading {
+    fn exact(value: f64) -> Reading {
+        Reading {
+            value,
+            uncertainty: 0.0,
+        }
+    }
+}
+
 impl Rows {
     fn push(&mut self, row: MetricRow, always: bool) {
         self.0.push((row, always));
     }
 
-    /// A figure where more is better, against its baseline value with
-    /// `slack` either way. A figure that disappeared is worse; one that
-    /// appeared is better (re-recording will guard it).
+    /// A figure where more is better, against its baseline value. It moves
+    /// when it differs by more than `slack` plus the root-sum-square of
+    /// the two readings' uncertainties. A figure that disappeared is worse;
+    /// one that appeared is better (re-recording will guard it).
     fn more_is_better(
         &mut self,
         metric: String,
-        base: Option<f64>,
-        now: Option<f64>,
+        base: Option<Reading>,
+        now: Option<Reading>,
         slack: f64,
         always: bool,
     ) {
+        let margin = |b: Reading, n: Option<Reading>| {
+            slack + b.uncertainty.hypot(n.map_or(0.0, |n| n.uncertainty))
+        };
         let status = match (base, now) {
-            (Some(b), Some(n)) if n < b - slack - NOISE => RowStatus::Worse,
-            (Some(b), Some(n)) if n > b + slack + NOISE => RowStatus::Better,
+            (Some(b), Some(n)) if n.value < b.value - margin(b, Some(n)) - NOISE => {
+                RowStatus::Worse
+            }
+            (Some(b), Some(n)) if n.value > b.value + margin(b, Some(n)) + NOISE => {
+                RowStatus::Better
+            }
             (Some(_), None) => RowStatus::Worse,
             (None, Some(_)) => RowStatus::Better,
             _ => RowStatus::Ok,
         };
-        let allowed = base.map_or("-".to_string(), |b| format!(">= {:.2}", b - slack));
+        let allowed = base.map_or("-".to_string(), |b| {
+            format!(">= {:.2}", b.value - margin(b, now))
+        });
         self.push(
             MetricRow {
                 metric,
-                baseline: base,
-                now,
+                baseline: base.map(|b| b.value),
+                now: now.map(|n| n.value),
                 allowed,
                 status,
             },
@@ -224,16 +284,30 @@ impl Rows {
         );
     }
 
-    /// A drift whose class must not get worse than the baseline's.
-    fn drift(&mut self, metric: String, base: Option<DriftRecord>, now: Option<DriftRecord>) {
+    /// A drift whose growth must not get worse than the baseline's: worse
+    /// when its class is worse and its exponent rose by more than `slack`
+    /// (an exponent near a class boundary moves across it under rounding).
+    /// Values are the exponents; the limit is an exponent too.
+    fn drift(
+        &mut self,
+        metric: String,
+        base: Option<DriftRecord>,
+        now: Option<DriftRecord>,
+        slack: f64,
+    ) {
+        let limit = |b: DriftRecord| (b.exponent + slack).max(b.class.upper_exponent());
         let status = match (base, now) {
-            (Some(b), Some(n)) if n.class > b.class => RowStatus::Worse,
-            (Some(b), Some(n)) if n.class < b.class => RowStatus::Better,
+            (Some(b), Some(n)) if n.class > b.class && n.exponent > limit(b) => RowStatus::Worse,
+            (Some(b), Some(n)) if n.class < b.class && n.exponent < b.exponent - slack => {
+                RowStatus::Better
+            }
             (Some(_), None) => RowStatus::Worse,
             (None, Some(_)) => RowStatus::Better,
             _ => RowStatus::Ok,
         };
-        let allowed = base.map_or("-".to_string(), |b| format!("<= {}", b.class.name()));
+        let allowed = base.map_or("-".to_string(), |b| {
+            format!("<= {:.2} (was {})", limit(b), b.class.name())
+        });
         let row = MetricRow {
             metric,
             baseline: base.map(|d| d.exponent),
@@ -244,15 +318,10 @@ impl Rows {
         self.push(row, false);
     }
 
-    /// A claim row: violated unless `holds`.
-    fn claim(&mut self, metric: String, now: Option<f64>, allowed: String, holds: bool) {
-        let status = if holds {
-            RowStatus::Ok
-        } else {
-            RowStatus::Violated
-        };
+    /// A claim row with its status.
+    fn claim(&mut self, metric: &str, now: Option<f64>, allowed: String, status: RowStatus) {
         let row = MetricRow {
-            metric,
+            metric: metric.to_string(),
             baseline: None,
             now,
             allowed,
@@ -275,15 +344,81 @@ fn claimed_class(c: EnergyClaim) -> DriftClass {
     }
 }
 
+/// The best digits of a record as a reading.
+fn best_reading(r: &CheckRecord) -> Option<Reading> {
+    r.best.map(|b| Reading {
+        value: b.digits,
+        uncertainty: b.uncertainty,
+    })
+}
+
+/// Why an order is not gated, if it is not: a converging reading on
+/// either side, or none at all.
+fn ungated(base: Option<&OrderFit>, now: Option<&OrderFit>) -> Option<&'static str> {
+    let converging = |f: Option<&OrderFit>| f.is_some_and(|f| f.status == FitStatus::Converging);
+    if converging(base) || converging(now) {
+        Some("not gated: still converging")
+    } else {
+        None
+    }
+}
+
+/// The order row: judged against its interval, or shown and not gated
+/// when either reading never reached its asymptotic range (the digits of
+/// every rung are judged instead).
+fn order_row(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows) {
+    let reading = |f: &OrderFit| Reading {
+        value: f.order,
+        uncertainty: f.uncertainty(),
+    };
+    match ungated(base.fit.as_ref(), now.fit.as_ref()) {
+        Some(why) => {
+            let row = MetricRow {
+                metric: "order".into(),
+                baseline: base.fit.map(|f| f.order),
+                now: now.fit.map(|f| f.order),
+                allowed: why.into(),
+                status: RowStatus::Ok,
+            };
+            rows.push(row, true);
+        }
+        None => rows.more_is_better(
+            "order".into(),
+            base.fit.as_ref().map(reading),
+            now.fit.as_ref().map(reading),
+            slack.order,
+            true,
+        ),
+    }
+}
+
+/// The plateau row: a plateau that appears or starts earlier is worse.
+fn plateau_row(now: &CheckRecord, base: &CheckRecord, rows: &mut Rows) {
+    let status = match (base.plateau_from, now.plateau_from) {
+        (None, Some(_)) => RowStatus::Worse,
+        (Some(b), Some(n)) if n < b => RowStatus::Worse,
+        (Some(b), Some(n)) if n > b => RowStatus::Better,
+        (Some(_), None) => RowStatus::Better,
+        _ => RowStatus::Ok,
+    };
+    let at = |k: Option<usize>| k.map_or("none".to_string(), |k| format!("from {}", base.ladder.label(k)));
+    let row = MetricRow {
+        metric: "plateau".into(),
+        baseline: None,
+        now: None,
+        allowed: format!("{} (now {})", at(base.plateau_from), at(now.plateau_from)),
+        status,
+    };
+    rows.push(row, false);
+}
+
 /// Rows comparing `now` with its baseline record.
 fn compare(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows) {
-    let order = |r: &CheckRecord| r.fit.map(|f| f.order);
-    let best = |r: &CheckRecord| r.best.map(|b| b.digits);
-    rows.more_is_better("order".into(), order(base), order(now), slack.order, true);
+    order_row(now, base, slack, rows);
     rows.more_is_better(
         "best digits".into(),
-        best(base),
-        best(now),
+        best_reading(base),
+        best_reading(now),
         slack.digits,
         true,
     );
@@ -298,49 +433,44 @@ fn compare(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows
         rows.push(row, true);
         return;
     }
+    // Every rung truncation error decides (not at or near the floor) is
+    // stable under rewrites that only change rounding.
     for (k, class) in base.classes.iter().enumerate() {
-        if *class == crate::metrics::RungClass::Fitted {
+        let rounding = matches!(
+            class,
+            RungClass::NearFloor | RungClass::Floor | RungClass::Missing | RungClass::Dip
+        );
+        if !rounding {
             rows.more_is_better(
                 format!("digits @ {}", base.ladder.label(k)),
-                base.digits.get(k).copied().flatten(),
-                now.digits.get(k).copied().flatten(),
+                base.digits.get(k).copied().flatten().map(Reading::exact),
+                now.digits.get(k).copied().flatten().map(Reading::exact),
                 slack.digits,
                 false,
             );
         }
     }
-    let plateau = |p: Option<usize>| p.map(|k| k as f64);
-    let status = match (base.plateau_from, now.plateau_from) {
-        (None, Some(_)) => RowStatus::Worse,
-        (Some(b), Some(n)) if n < b => RowStatus::Worse,
-        (Some(b), Some(n)) if n > b => RowStatus::Better,
-        (Some(_), None) => RowStatus::Better,
-        _ => RowStatus::Ok,
-    };
-    let allowed = base
-        .plateau_from
-        .map_or("none".to_string(), |k| format!("from rung >= {k}"));
-    let row = MetricRow {
-        metric: "plateau (first rung)".into(),
-        baseline: plateau(base.plateau_from),
-        now: plateau(now.plateau_from),
-        allowed,
-        status,
-    };
-    rows.push(row, false);
+    plateau_row(now, base, rows);
     for (name, b) in &base.invariants {
         let n = now.invariants.get(name);
+        let best = |r: &InvariantRecord| {
+            r.best_digits.map(|value| Reading {
+                value,
+                uncertainty: r.best_uncertainty,
+            })
+        };
         rows.more_is_better(
             format!("{name} best digits"),
-            b.best_digits,
-            n.and_then(|n| n.best_digits),
+            best(b),
+            n.and_then(best),
             slack.invariant_digits,
             false,
         );
         rows.drift(
-            format!("{name} drift fwd"),
+            format!("{name} drift exponent fwd"),
             b.drift_forward,
             n.and_then(|n| n.drift_forward),
+            slack.drift_exponent,
         );
     }
     let figures = [
@@ -364,56 +494,104 @@ fn compare(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows
         ),
     ];
     for (metric, b, n, s) in figures {
-        rows.more_is_better(metric.into(), b, n, s, false);
+        rows.more_is_better(
+            metric.into(),
+            b.map(Reading::exact),
+            n.map(Reading::exact),
+            s,
+            false,
+        );
     }
+}
+
+/// The order claim against the reading's interval: holds when the whole
+/// interval clears the claim band and there is no plateau; violated by a
+/// plateau or an interval wholly below it; otherwise not measurable here.
+fn order_claim(now: &CheckRecord, claimed: f64, rows: &mut Rows) {
+    let least = claimed - ORDER_CLAIM_BAND;
+    let (status, why) = match (now.plateau_from, now.fit) {
+        (Some(k), _) => (
+            RowStatus::Violated,
+            format!("plateau from {}", now.ladder.label(k)),
+        ),
+        (None, Some(f)) if f.low >= least => (RowStatus::Ok, format!("{} range", f.status.name())),
+        (None, Some(f)) if f.high < least => (
+            RowStatus::Violated,
+            format!("{} range up to {:.2}", f.status.name(), f.high),
+        ),
+        (None, Some(f)) => (
+            RowStatus::Unmeasured,
+            format!(
+                "not measurable here: still converging ({:.2} to {:.2})",
+                f.low, f.high
+            ),
+        ),
+        (None, None) => (
+            RowStatus::Unmeasured,
+            "not measurable here: fewer than two rungs above 1 digit".to_string(),
+        ),
+    };
+    rows.claim(
+        "claim: order",
+        now.fit.map(|f| f.order),
+        format!(">= {least:.2}; {why}"),
+        status,
+    );
 }
 
 /// Rows checking `now` against the stepper's claims.
 fn check_claims(now: &CheckRecord, claims: &Claims, rows: &mut Rows) {
     if let Some(c) = claims.order {
-        let least = c - ORDER_CLAIM_BAND;
-        let measured = now.fit.map(|f| f.order);
-        let holds = measured.is_some_and(|o| o >= least) && now.plateau_from.is_none();
-        let metric = match now.plateau_from {
-            Some(k) => format!("claim: order (plateau @{k})"),
-            None => "claim: order".to_string(),
-        };
-        rows.claim(
-            metric,
-            measured,
-            format!(">= {least:.2}, no plateau"),
-            holds,
-        );
+        order_claim(now, c, rows);
     }
     if let (Some(c), Some(energy)) = (claims.energy, now.invariants.get("energy")) {
         let worst = claimed_class(c);
-        let drift = energy.drift_forward;
-        let holds = drift.is_some_and(|d| d.class <= worst);
-        let allowed = match drift {
-            Some(d) => format!("<= {} (is {})", worst.name(), d.class.name()),
-            None => format!("<= {} (unmeasured)", worst.name()),
+        let (status, allowed) = match energy.drift_forward {
+            Some(d) if d.class <= worst => (
+                RowStatus::Ok,
+                format!("<= {} (is {})", worst.name(), d.class.name()),
+            ),
+            Some(d) => (
+                RowStatus::Violated,
+                format!("<= {} (is {})", worst.name(), d.class.name()),
+            ),
+            None => (
+                RowStatus::Unmeasured,
+                format!("<= {}; not measurable here: no long run", worst.name()),
+            ),
         };
         rows.claim(
-            "claim: energy drift".into(),
-            drift.map(|d| d.exponent),
+            "claim: energy drift",
+            energy.drift_forward.map(|d| d.exponent),
             allowed,
-            holds,
+            status,
         );
     }
     if claims.reversible == Some(true) {
         let d = now.reversibility_digits;
-        let holds = d.is_some_and(|d| d >= REVERSIBLE_DIGITS);
+        let (status, why) = match d {
+            Some(d) if d >= REVERSIBLE_DIGITS => (RowStatus::Ok, ""),
+            Some(_) => (RowStatus::Violated, ""),
+            None => (
+                RowStatus::Unmeasured,
+                "; not measurable here: no reversibility run",
+            ),
+        };
         rows.claim(
-            "claim: reversible".into(),
+            "claim: reversible",
             d,
-            format!(">= {REVERSIBLE_DIGITS:.2}"),
-            holds,
+            format!(">= {REVERSIBLE_DIGITS:.2}{why}"),
+            status,
         );
     }
     if let (Some(floor), Basis::Exact) = (claims.floor, now.basis) {
         let d = now.best.map(|b| b.digits);
-        let holds = d.is_some_and(|d| d >= floor);
-        rows.claim("claim: floor".into(), d, format!(">= {floor:.2}"), holds);
+        let status = if d.is_some_and(|d| d >= floor) {
+            RowStatus::Ok
+        } else {
+            RowStatus::Violated
+        };
+        rows.claim("claim: floor", d, format!(">= {floor:.2}"), status);
     }
 }
 
@@ -424,12 +602,12 @@ fn check_claims(now: &CheckRecord, claims: &Claims, rows: &mut Rows) {
 /// use drift::baseline::{claim_rows, CheckRecord, LadderRecord, RowStatus};
 /// use drift::claims::Claims;
 /// use drift::measure::{Basis, MethodKind};
-/// use drift::metrics::{OrderFit, RungClass};
+/// use drift::metrics::{FitStatus, OrderFit, RungClass};
 /// let r = CheckRecord {
 ///     kind: MethodKind::Fixed, basis: Basis::Exact,
 ///     ladder: LadderRecord::Steps(vec![16, 32]), digits: vec![Some(2.0), Some(3.2)],
 ///     classes: vec![RungClass::Fitted; 2],
-///     fit: Some(OrderFit { order: 3.99, residual: 0.0, first: 0, last: 1 }),
+///     fit: Some(OrderFit { order: 3.99, residual: 0.0, first: 0, last: 1, low: 3.97, high: 4.01, status: FitStatus::Asymptotic }),
 ///     best: None, plateau_from: None, floor_from: None, evals_per_step: 4.0,
 ///     invariants: Default::default(), period_digits: None, virial_digits: None,
 ///     reversibility_digits: None, diverged_at: None,
@@ -456,13 +634,13 @@ pub fn claim_rows(now: &CheckRecord, claims: &Claims) -> Vec<MetricRow> {
 /// use drift::baseline::{judge, CheckRecord, LadderRecord, Verdict};
 /// use drift::claims::{Claims, Slack};
 /// use drift::measure::{Basis, MethodKind};
-/// use drift::metrics::{Best, OrderFit, RungClass};
+/// use drift::metrics::{Best, FitStatus, OrderFit, RungClass};
 /// let r = CheckRecord {
 ///     kind: MethodKind::Fixed, basis: Basis::Exact,
 ///     ladder: LadderRecord::Steps(vec![16, 32, 64]),
 ///     digits: vec![Some(2.0), Some(3.2), Some(4.4)], classes: vec![RungClass::Fitted; 3],
-///     fit: Some(OrderFit { order: 4.0, residual: 0.0, first: 0, last: 2 }),
-///     best: Some(Best { digits: 4.4, rung: 2 }), plateau_from: None, floor_from: None,
+///     fit: Some(OrderFit { order: 4.0, residual: 0.0, first: 0, last: 2, low: 3.98, high: 4.02, status: FitStatus::Asymptotic }),
+///     best: Some(Best { digits: 4.4, rung: 2, uncertainty: 0.0 }), plateau_from: None, floor_from: None,
 ///     evals_per_step: 4.0, invariants: Default::default(), period_digits: None,
 ///     virial_digits: None, reversibility_digits: None, diverged_at: None,
 /// };

@@ -93,6 +93,8 @@ impl DriftRecord {
 pub struct InvariantRecord {
     /// Best digits over the ladder.
     pub best_digits: Option<f64>,
+    /// Their uncertainty in digits (see [`Best::uncertainty`]).
+    pub best_uncertainty: f64,
     /// Order of convergence of its error, when a fit was possible.
     pub order: Option<f64>,
     /// Drift forward in time.
@@ -189,6 +191,10 @@ impl CheckRecord {
             .map(|inv| {
                 let record = InvariantRecord {
                     best_digits: inv.analysis.best.map(|b| round_figure(b.digits)),
+                    best_uncertainty: inv
+                        .analysis
+                        .best
+                        .map_or(0.0, |b| round_figure(b.uncertainty)),
                     order: inv.analysis.fit.map(|f| round_figure(f.order)),
                     drift_forward: inv.drift_forward.as_ref().map(DriftRecord::of),
                     drift_backward: inv.drift_backward.as_ref().map(DriftRecord::of),
@@ -210,10 +216,13 @@ impl CheckRecord {
             fit: m.solution.fit.map(|f| OrderFit {
                 order: round_figure(f.order),
                 residual: round_figure(f.residual),
+                low: round_figure(f.low),
+                high: round_figure(f.high),
                 ..f
             }),
             best: m.solution.best.map(|b| Best {
                 digits: round_figure(b.digits),
+                uncertainty: round_figure(b.uncertainty),
                 ..b
             }),
             plateau_from: m.solution.plateau_from,

@@ -10,10 +10,7 @@ pub mod markdown;
 
 use super::model::{CheckResult, Row};
 
-/// A figure to 2 decimals, `-` when absent.
-pub(crate) fn figure(v: Option<f64>) -> String {
-    v.map_or_else(|| "-".to_string(), |v| format!("{v:.2}"))
-}
+pub(crate) use crate::baseline::judge::figure;
 
 /// A headline figure of a check (`order`, `best_digits`) from its figures.
 pub(crate) fn headline(check: &CheckResult, key: &str) -> Option<f64> {
@@ -26,24 +23,22 @@ pub(crate) fn headline(check: &CheckResult, key: &str) -> Option<f64> {
 
 pub(crate) use crate::baseline::judge::clip;
 
-/// The rows of a check as fixed-width text lines (at most 76 columns before
-/// any indent): figure, recorded, measured, limit, status.
+/// The rows of a check as text lines: figure, recorded, measured, limit,
+/// status, each column as wide as its widest cell (nothing is cut).
 pub(crate) fn rows_table(rows: &[Row]) -> Vec<String> {
-    let mut lines = vec![format!(
-        "{:<26} {:>8} {:>8}  {:<20} {}",
-        "figure", "recorded", "measured", "limit", "status"
-    )];
-    for r in rows {
-        lines.push(format!(
-            "{:<26} {:>8} {:>8}  {:<20} {}",
-            clip(&r.metric, 26),
-            figure(r.baseline),
-            figure(r.now),
-            clip(&r.allowed, 20),
-            r.status
-        ));
-    }
-    lines
+    let cells: Vec<[String; 5]> = rows
+        .iter()
+        .map(|r| {
+            [
+                r.metric.clone(),
+                figure(r.baseline),
+                figure(r.now),
+                r.allowed.clone(),
+                r.status.clone(),
+            ]
+        })
+        .collect();
+    crate::baseline::judge::row_lines(&cells)
 }
 
 /// What a pass means, in one line.

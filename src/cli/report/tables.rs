@@ -217,6 +217,7 @@ fn class_word(c: RungClass) -> &'static str {
         RungClass::NearFloor => "near floor",
         RungClass::Floor => "floor",
         RungClass::Plateau => "plateau",
+        RungClass::Dip => "isolated dip",
         RungClass::Missing => "no figure",
     }
 }
