@@ -353,6 +353,27 @@ fn ladder_done<P: Problem + ?Sized>(problem: &P, raw: &[RawRung], basis: Basis) 
     latest >= 15.0 || a.floor_from.is_some() || plateau_rungs >= 2
 }
 
+/// Whether the order reading of the rungs so far is not (yet) asymptotic.
+fn still_converging<P: Problem + ?Sized>(problem: &P, raw: &[RawRung], basis: Basis) -> bool {
+    let d = solution_digits(problem, raw, basis);
+    analyse(raw, &d)
+        .fit
+        .is_none_or(|f| f.status != crate::metrics::FitStatus::Asymptotic)
+}
+
+/// One more rung between `last` and `2 last` steps per unit that fits the
+/// `left` steps of the budget: the finest of `last * k / 8` for k = 15
+/// down to 9 whose grid is whole. When the doubling ladder runs out of
+/// budget while the local slope still moves, this spends what is left on
+/// one more reading at the fine end.
+fn refinement(last: u64, left: u64, config: &Config) -> Option<Grid> {
+    (9..16u64).rev().find_map(|k| {
+        let n = last.checked_mul(k)? / 8;
+        let g = grid(n, config.periods, config.samples_per_unit).ok()?;
+        (n * 8 == last * k && g.total <= left).then_some(g)
+    })
+}
+
 /// Runs every rung of the configured ladder.
 pub(crate) fn run<M: Method, P: Problem + ?Sized>(
     method: &mut M,
@@ -387,10 +408,12 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
             budget,
         } => {
             let (mut n, mut total) = (*start, 0u64);
+            let mut over_budget = false;
             loop {
                 let g = grid(n, config.periods, config.samples_per_unit)
                     .map_err(MeasureError::Config)?;
                 if !raw.is_empty() && total.saturating_add(g.total) > *budget {
+                    over_budget = true;
                     break;
                 }
                 raw.push(run_fixed_rung(method, problem, g, config.periods)?);
@@ -402,6 +425,12 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
                 match n.checked_mul(2) {
                     Some(next) => n = next,
                     None => break,
+                }
+            }
+            let b = basis_of(&raw[0]);
+            if over_budget && raw.len() < *max_rungs && still_converging(problem, &raw, b) {
+                if let Some(g) = refinement(n / 2, budget.saturating_sub(total), config) {
+                    raw.push(run_fixed_rung(method, problem, g, config.periods)?);
                 }
             }
         }

@@ -3,8 +3,30 @@
 
 use std::collections::BTreeMap;
 
-use super::super::model::{PackageOutcome, PackageRun};
+use super::super::model::{CheckResult, PackageOutcome, PackageRun};
 use super::{clip, color, figure, headline, rows_table, PASS_MEANS};
+
+/// The order of a check with its interval: `4.00 ±0.02` in the asymptotic
+/// range, `~4.22 converging` while the local slope still moves, `0.00
+/// plateau` with a plateau, `-` without a reading.
+fn order_text(check: &CheckResult) -> String {
+    let Some(order) = headline(check, "order") else {
+        return "-".into();
+    };
+    let status = check
+        .figures
+        .as_ref()
+        .and_then(|f| f.get("order_status"))
+        .and_then(|v| v.as_str());
+    match status {
+        Some("converging") => format!("~{order:.2} converging"),
+        Some("plateau") => format!("{order:.2} plateau"),
+        _ => match (headline(check, "order_low"), headline(check, "order_high")) {
+            (Some(lo), Some(hi)) => format!("{order:.2} \u{b1}{:.2}", (hi - lo) / 2.0),
+            _ => format!("{order:.2}"),
+        },
+    }
+}
 
 /// The table of `runs`, coloured when `on`.
 pub fn verdict_table(runs: &[PackageRun], on: bool) -> String {
@@ -25,13 +47,15 @@ pub fn verdict_table(runs: &[PackageRun], on: bool) -> String {
                     *counts.entry(c.verdict.clone()).or_default() += 1;
                     let word = color::verdict(&format!("{:<14}", c.verdict), &c.verdict, on);
                     let figures = format!(
-                        "order {:>5}  best {:>5}",
-                        figure(headline(c, "order")),
+                        "order {:<15} best {:>5}",
+                        order_text(c),
                         figure(headline(c, "best_digits"))
                     );
                     out.push_str(&format!("  {word} {:<34} {figures}\n", clip(&c.name, 34)));
                     if let Some(e) = &c.error {
-                        out.push_str(&format!("      {}\n", clip(e, 74)));
+                        for line in e.lines() {
+                            out.push_str(&format!("      {line}\n"));
+                        }
                     }
                     if c.fails() && !c.rows.is_empty() {
                         for line in rows_table(&c.rows) {
