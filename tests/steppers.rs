@@ -172,6 +172,157 @@ fn dormand_prince_embedded_weights_are_fourth_order_exactly() {
     assert_eq!(t.c[6], 1.0);
 }
 
+// ---------------------------------------------------------------------------
+// Order conditions from rooted trees (Butcher; Hairer, Norsett and Wanner I,
+// II.2, Theorem 2.13): a method has order p when sum_i b_i Phi_i(t) =
+// 1/gamma(t) for every rooted tree t with at most p vertices.
+
+/// A rooted tree as the sorted list of its root's subtrees (canonical, so
+/// equal trees compare equal).
+#[derive(Clone, PartialEq, Eq, PartialOrd, Ord, Debug)]
+struct Tree(Vec<Tree>);
+
+impl Tree {
+    fn order(&self) -> usize {
+        1 + self.0.iter().map(Tree::order).sum::<usize>()
+    }
+
+    /// gamma(t) = |t| prod gamma(t_k) (HNW I, II.2, Definition 2.10).
+    fn density(&self) -> f64 {
+        self.order() as f64 * self.0.iter().map(Tree::density).product::<f64>()
+    }
+
+    /// Every tree made by attaching one new leaf to a vertex of this one.
+    fn grown(&self) -> Vec<Tree> {
+        let mut out = Vec::new();
+        let mut with_leaf = self.0.clone();
+        with_leaf.push(Tree(Vec::new()));
+        with_leaf.sort();
+        out.push(Tree(with_leaf));
+        for (k, child) in self.0.iter().enumerate() {
+            for g in child.grown() {
+                let mut children = self.0.clone();
+                children[k] = g;
+                children.sort();
+                out.push(Tree(children));
+            }
+        }
+        out
+    }
+
+    /// The elementary weights Phi_i(t) = prod_k (A Phi(t_k))_i, with
+    /// Phi(leaf) = 1 (HNW I, II.2, Definition 2.9).
+    fn weights<const S: usize>(&self, a: &[[f64; S]; S]) -> [f64; S] {
+        let mut phi = [1.0; S];
+        for child in &self.0 {
+            let p = child.weights(a);
+            for (i, x) in phi.iter_mut().enumerate() {
+                *x *= (0..S).map(|j| a[i][j] * p[j]).sum::<f64>();
+            }
+        }
+        phi
+    }
+}
+
+/// All rooted trees with 1 to `max` vertices, by order.
+fn trees_by_order(max: usize) -> Vec<Vec<Tree>> {
+    let mut levels = vec![vec![Tree(Vec::new())]];
+    while levels.len() < max {
+        let mut next: Vec<Tree> = levels
+            .last()
+            .unwrap()
+            .iter()
+            .flat_map(Tree::grown)
+            .collect();
+        next.sort();
+        next.dedup();
+        levels.push(next);
+    }
+    levels
+}
+
+/// Residual `sum b Phi(t) - 1/gamma(t)` of each tree.
+fn tree_residuals<const S: usize>(a: &[[f64; S]; S], b: &[f64; S], trees: &[Tree]) -> Vec<f64> {
+    trees
+        .iter()
+        .map(|t| {
+            let phi = t.weights(a);
+            (0..S).map(|i| b[i] * phi[i]).sum::<f64>() - 1.0 / t.density()
+        })
+        .collect()
+}
+
+/// Number of trees up to order `p` whose condition fails by more than
+/// [`COND_TOL`].
+fn failed_trees<const S: usize>(
+    a: &[[f64; S]; S],
+    b: &[f64; S],
+    levels: &[Vec<Tree>],
+    p: usize,
+) -> usize {
+    levels[..p]
+        .iter()
+        .flat_map(|l| tree_residuals(a, b, l))
+        .filter(|r| r.abs() > COND_TOL)
+        .count()
+}
+
+#[test]
+fn rooted_trees_are_counted_as_published() {
+    // Number of rooted trees with n vertices (Cayley; OEIS A000081, from
+    // memory): 1, 1, 2, 4, 9, 20, 48, 115, 286.
+    let levels = trees_by_order(9);
+    let counts: Vec<usize> = levels.iter().map(Vec::len).collect();
+    assert_eq!(counts, [1, 1, 2, 4, 9, 20, 48, 115, 286]);
+    // 200 conditions for order 8 (HNW I, II.2, Table 2.3, number of
+    // conditions up to each order: 1, 2, 4, 8, 17, 37, 85, 200; from memory).
+    assert_eq!(counts[..8].iter().sum::<usize>(), 200);
+    // The generator agrees with the hand-written conditions of Table 2.2:
+    // classical RK4 passes every tree to order 4 and fails one of order 5;
+    // Dormand-Prince 5(4) passes every tree to order 5.
+    let rk4 = Rk4Tableau::TABLEAU;
+    assert_eq!(failed_trees(&rk4.a, &rk4.b, &levels, 4), 0);
+    assert!(failed_trees(&rk4.a, &rk4.b, &levels, 5) > 0);
+    let dp = DormandPrinceTableau::TABLEAU;
+    assert_eq!(failed_trees(&dp.a, &dp.b, &levels, 5), 0);
+    assert!(failed_trees(&dp.a, &DORMAND_PRINCE_B_HAT, &levels, 5) > 0);
+}
+
+#[test]
+fn dop853_coefficients_satisfy_the_order_conditions() {
+    // HNW I, II.10 (DOP853): 8th-order weights b, 5th-order embedded
+    // weights b - e5 and 3rd-order weights bhh on 12 explicit stages with
+    // c_i = sum_j a_ij.
+    let t = Dop853Tableau::TABLEAU;
+    assert!(is_explicit(&t));
+    assert_eq!(bad_row_sums(&t), Vec::<usize>::new(), "c_i != sum_j a_ij");
+    let levels = trees_by_order(9);
+    assert_eq!(failed_trees(&t.a, &t.b, &levels, 8), 0, "order 8");
+    // Not order 9: some order-9 condition fails far beyond rounding (the
+    // check above would otherwise bound nothing).
+    let worst9 = tree_residuals(&t.a, &t.b, &levels[8])
+        .into_iter()
+        .fold(0.0, |m: f64, r| m.max(r.abs()));
+    assert!(worst9 > 1e3 * COND_TOL, "order 9 holds to {worst9:e}");
+    // And the check notices a coefficient wrong in its 10th digit.
+    let mut wrong = t.a;
+    wrong[11][10] *= 1.0 + 1e-9;
+    assert!(failed_trees(&wrong, &t.b, &levels, 8) > 0);
+    assert_eq!(failed_trees(&t.a, &DOP853_B5, &levels, 5), 0, "b5 order 5");
+    assert!(
+        failed_trees(&t.a, &DOP853_B5, &levels, 6) > 0,
+        "b5 is order 6"
+    );
+    assert_eq!(failed_trees(&t.a, &DOP853_B3, &levels, 3), 0, "bhh order 3");
+    assert!(
+        failed_trees(&t.a, &DOP853_B3, &levels, 4) > 0,
+        "bhh is order 4"
+    );
+    // bhh uses stages 1, 9 and 12 only (the DOP853 code).
+    let used: Vec<usize> = (0..12).filter(|&i| DOP853_B3[i] != 0.0).collect();
+    assert_eq!(used, [0, 8, 11]);
+}
+
 #[test]
 fn planted_wrong_coefficient_fails_an_identified_condition() {
     // a32 = 0.49 instead of 0.5 (HNW I, II.1, Table 1.2 has 1/2): row 3
