@@ -24,6 +24,11 @@ pub const STALL_SLOPE: f64 = 0.5;
 /// of the problem.
 pub const FLOOR_FACTOR: f64 = 100.0;
 
+/// Near the floor a slope below this fraction of the order seen so far
+/// counts as the stall that marks the floor (the roll-off into rounding is
+/// gradual: 3.5, 0.85, 0.66 for RK4). Common practice, no source.
+pub const STALL_FRACTION: f64 = 0.5;
+
 /// Rungs within this many digits of the floor are partly rounding and are
 /// left out of the order fit. Common practice, no source.
 pub const FLOOR_BAND: f64 = 2.0;
@@ -86,6 +91,37 @@ pub fn digits(err: f64) -> f64 {
 /// ```
 pub fn rounding_digits(steps: u64) -> f64 {
     digits(FLOOR_FACTOR * f64::EPSILON * steps.max(1) as f64)
+}
+
+/// The digits of random-walk rounding over `steps` steps,
+/// `digits(EPSILON * sqrt(steps))`: unbiased rounding errors add up like a
+/// random walk (Brouwer, Astron. J. 46 (1937) 149; Henrici, Discrete
+/// Variable Methods in ODEs, 1962), biased ones up to linearly. A figure
+/// within [`FLOOR_BAND`] digits of this level is partly rounding, whether or
+/// not the ladder has shown a stall yet.
+///
+/// ```
+/// let d = drift::metrics::roundoff_digits(1_000_000);
+/// assert!((d - 12.65).abs() < 0.01);
+/// ```
+pub fn roundoff_digits(steps: u64) -> f64 {
+    digits(f64::EPSILON * (steps.max(1) as f64).sqrt())
+}
+
+/// The uncertainty of a figure that rounding decides, in digits: rounding
+/// accumulates somewhere between a random walk (`EPSILON sqrt(N)`) and
+/// linear growth (`EPSILON N`) depending on its bias, which equivalent
+/// orderings of the same arithmetic change; half that band is
+/// `log10(N) / 4`, and at least [`FLOOR_NOISE`]. (Higham, Accuracy and
+/// Stability of Numerical Algorithms, 2nd ed., 2002, sections 2.8 and 3.1,
+/// on worst-case against statistical accumulation; from memory.)
+///
+/// ```
+/// assert!((drift::metrics::rounding_uncertainty(1_000_000) - 1.5).abs() < 1e-12);
+/// assert_eq!(drift::metrics::rounding_uncertainty(10), drift::metrics::FLOOR_NOISE);
+/// ```
+pub fn rounding_uncertainty(steps: u64) -> f64 {
+    ((steps.max(1) as f64).log10() / 4.0).max(FLOOR_NOISE)
 }
 
 /// Least-squares straight line through `(x, y)`.
@@ -369,11 +405,11 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
     let mut classes = vec![RungClass::Missing; n];
     let (floor_from, plateau_from) = classify(x, &digit, steps, &known, &mut classes);
     let level = floor_from.map(|f| floor_level(&digit, &known, f));
-    if let Some(level) = level {
-        for &k in &known {
-            if classes[k] == RungClass::Fitted && digit(k) > level - FLOOR_BAND {
-                classes[k] = RungClass::NearFloor;
-            }
+    for &k in &known {
+        let near_level = level.is_some_and(|l| digit(k) > l - FLOOR_BAND);
+        let near_roundoff = digit(k) > roundoff_digits(steps[k]) - FLOOR_BAND;
+        if classes[k] == RungClass::Fitted && (near_level || near_roundoff) {
+            classes[k] = RungClass::NearFloor;
         }
     }
     let fit = match plateau_from {
@@ -381,7 +417,7 @@ pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnal
         None => order_reading(x, &digit, &known, &mut classes),
     };
     SeriesAnalysis {
-        best: best_of(&digit, &known, &classes),
+        best: best_of(&digit, steps, &known, &classes),
         classes,
         fit,
         floor_from,
@@ -406,6 +442,7 @@ fn classify(
     classes: &mut [RungClass],
 ) -> (Option<usize>, Option<usize>) {
     let (mut floor_from, mut plateau_from) = (None, None);
+    let mut slopes: Vec<f64> = Vec::new();
     let mut started = false;
     let mut prev: Option<usize> = None;
     for (i, &k) in known.iter().enumerate() {
@@ -419,19 +456,25 @@ fn classify(
             continue;
         }
         started = true;
-        let stalled_from = |j: usize| slope(x, digit, j, k).is_some_and(|s| s < STALL_SLOPE);
-        if !prev.is_some_and(stalled_from) {
+        let s = prev.and_then(|j| slope(x, digit, j, k));
+        // Near rounding level the slope rolls off gradually: a slope below
+        // half the order so far already marks the floor there.
+        let floor_stall = s.is_some_and(|s| s < STALL_SLOPE.max(STALL_FRACTION * order_so_far(&slopes)));
+        if floor_stall && digit(k) >= rounding_digits(steps[k]) {
+            floor_from = Some(k);
+            classes[k] = RungClass::Floor;
+            continue;
+        }
+        if let Some(s) = s.filter(|_| classes_fitted(plateau_from)) {
+            slopes.push(s);
+        }
+        if !s.is_some_and(|s| s < STALL_SLOPE) {
             classes[k] = if plateau_from.is_some() {
                 RungClass::Plateau
             } else {
                 RungClass::Fitted
             };
             prev = Some(k);
-            continue;
-        }
-        if digit(k) >= rounding_digits(steps[k]) {
-            floor_from = Some(k);
-            classes[k] = RungClass::Floor;
             continue;
         }
         // A dip: the next rung improves on both this one and the rung
@@ -451,6 +494,22 @@ fn classify(
     (floor_from, plateau_from)
 }
 
+/// The order shown so far, for the floor's roll-off: the median of the
+/// local slopes seen, or 0 before two of them.
+fn order_so_far(slopes: &[f64]) -> f64 {
+    if slopes.len() < 2 {
+        return 0.0;
+    }
+    let mut v = slopes.to_vec();
+    v.sort_by(f64::total_cmp);
+    v[v.len() / 2]
+}
+
+/// Whether the rungs so far are still usable (no plateau yet).
+fn classes_fitted(plateau_from: Option<usize>) -> bool {
+    plateau_from.is_none()
+}
+
 /// The floor level: the most digits on the floor.
 fn floor_level(digit: &impl Fn(usize) -> f64, known: &[usize], floor_from: usize) -> f64 {
     known
@@ -461,10 +520,15 @@ fn floor_level(digit: &impl Fn(usize) -> f64, known: &[usize], floor_from: usize
 }
 
 /// The best digits and their uncertainty: when the best rung lies at or
-/// near the floor, half the spread between it and the floor rungs (at
-/// least [`FLOOR_NOISE`]), since rounding decides where in that band a run
-/// lands.
-fn best_of(digit: &impl Fn(usize) -> f64, known: &[usize], classes: &[RungClass]) -> Option<Best> {
+/// near the floor, the larger of [`rounding_uncertainty`] of its run and
+/// half the spread between it and the floor rungs; 0 when truncation error
+/// decides it.
+fn best_of(
+    digit: &impl Fn(usize) -> f64,
+    steps: &[u64],
+    known: &[usize],
+    classes: &[RungClass],
+) -> Option<Best> {
     let &rung = known
         .iter()
         .fold(None, |acc: Option<&usize>, k| match acc {
@@ -477,7 +541,7 @@ fn best_of(digit: &impl Fn(usize) -> f64, known: &[usize], classes: &[RungClass]
             .filter(|&&k| classes[k] == RungClass::Floor)
             .map(|&k| digit(k))
             .fold(digit(rung), f64::min);
-        ((digit(rung) - lowest) / 2.0).max(FLOOR_NOISE)
+        ((digit(rung) - lowest) / 2.0).max(rounding_uncertainty(steps[rung]))
     } else {
         0.0
     };

@@ -490,3 +490,18 @@ pub fn families() -> Vec<Family> {
         ),
     ]
 }
+
+/// The planted bugs of tests/common/steppers.rs that imitate a family's
+/// method, each registered like its variants: a suite with teeth fails
+/// every one of them against the family's baseline.
+pub fn planted(family: &str) -> Vec<Variant> {
+    use super::steppers::{Rk4F32, Rk4WrongCoef, Rk4WrongTime};
+    match family {
+        "rk4" => vec![
+            named("planted: a32 = 0.49", fixed::<Rk4WrongCoef>()),
+            named("planted: c3 = 0", fixed::<Rk4WrongTime>()),
+            named("planted: f32 stages", fixed::<Rk4F32>()),
+        ],
+        _ => Vec::new(),
+    }
+}
