@@ -9,8 +9,9 @@ mod common;
 use std::cell::Cell;
 
 use common::dop853::*;
+use common::rewrites::*;
 use common::steppers::*;
-use drift::{Accel, Control, IntegrateError, Integrator, Rhs, SplitStepper, Stepper};
+use drift::{Accel, Control, IntegrateError, Integrator, Problem, Rhs, SplitStepper, Stepper};
 
 // ---------------------------------------------------------------------------
 // Order conditions (Hairer, Norsett and Wanner I, section II.2, Table 2.2).
@@ -859,4 +860,221 @@ fn refuses_meaningless_tolerances<P: EmbeddedPair>() {
 fn embedded_pairs_refuse_meaningless_tolerances() {
     refuses_meaningless_tolerances::<Dp5Pair>();
     refuses_meaningless_tolerances::<Dop853Pair>();
+}
+
+// ---------------------------------------------------------------------------
+// Accuracy-neutral rewrites (tests/common/rewrites.rs) against their
+// originals.
+
+/// Problems with a second-order form, so every family runs on them:
+/// linear, nonlinear (Kepler, e = 0.5) and non-autonomous (driven).
+fn smooth_problems() -> Vec<Box<dyn drift::Problem>> {
+    use drift::problem::{driven::Driven, harmonic::Harmonic, kepler::Kepler};
+    vec![
+        Box::new(Harmonic::default()),
+        Box::new(Kepler::default()),
+        Box::new(Driven::default()),
+    ]
+}
+
+/// Largest component difference relative to the largest component of `b`.
+fn rel_diff(a: &[f64], b: &[f64]) -> f64 {
+    let scale = b.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    let d = a
+        .iter()
+        .zip(b)
+        .fold(0.0f64, |m, (x, y)| m.max((x - y).abs()));
+    d / scale.max(f64::MIN_POSITIVE)
+}
+
+/// Runs `v` on `p` over `[t0, t1]` under `control` from the initial state.
+fn run_variant(
+    v: &Variant,
+    p: &dyn drift::Problem,
+    t1: f64,
+    control: Control,
+) -> (Vec<f64>, drift::Counts, u64) {
+    let mut y = vec![0.0; p.dim()];
+    p.initial(&mut y);
+    let (counts, evals) =
+        (v.run)(p, t1, control, &mut y).unwrap_or_else(|e| panic!("{}: {e}", v.name));
+    (y, counts, evals)
+}
+
+#[test]
+fn every_family_has_an_original_and_two_rewrites() {
+    let fams = families();
+    let names: Vec<&str> = fams.iter().map(|f| f.name).collect();
+    assert_eq!(
+        names,
+        [
+            "euler",
+            "heun",
+            "midpoint",
+            "rk4",
+            "leapfrog",
+            "triple-jump",
+            "dormand-prince",
+            "dop853"
+        ]
+    );
+    for f in &fams {
+        // DOP853 has one rewrite; every other family at least two.
+        let least = if f.name == "dop853" { 2 } else { 3 };
+        assert!(f.variants.len() >= least, "{}", f.name);
+        let mut vn: Vec<&str> = f.variants.iter().map(|v| v.name).collect();
+        vn.sort();
+        vn.dedup();
+        assert_eq!(vn.len(), f.variants.len(), "{}: duplicate names", f.name);
+    }
+    // Registering every variant under its own name gives a harness with no
+    // clash (the harness refuses duplicate names when it runs).
+    let mut h = drift::Harness::new();
+    for f in &fams {
+        for v in &f.variants {
+            h = (v.register)(h, &format!("{}-{}", f.name, v.name));
+        }
+    }
+    drop(h);
+}
+
+#[test]
+fn rewrites_agree_with_their_originals_to_roundoff_but_not_bitwise() {
+    // Over 256 fixed steps (a step of 0.1 time units, so a few periods),
+    // a rewrite differs from its original by rounding only: the bound is
+    // 100 x EPSILON x steps relative, the linear-accumulation rule the
+    // order fit uses for the roundoff floor (DEVELOPERS.md; common
+    // practice, no source). Same evaluations per step. And it is a rewrite,
+    // not the original again: the final states differ in at least one bit
+    // on at least one problem.
+    let steps = 256;
+    let t1 = 0.1 * steps as f64;
+    let bound = 100.0 * f64::EPSILON * steps as f64;
+    for fam in families() {
+        let (original, rewrites) = fam.variants.split_first().unwrap();
+        for v in rewrites {
+            let mut differs = false;
+            for p in smooth_problems() {
+                let what = format!("{} {} on {}", fam.name, v.name, p.name());
+                let (y0, c0, e0) = run_variant(original, p.as_ref(), t1, Control::Steps(steps));
+                let (y1, c1, e1) = run_variant(v, p.as_ref(), t1, Control::Steps(steps));
+                assert_eq!((c0, e0), (c1, e1), "{what}: counts or evaluations");
+                let d = rel_diff(&y1, &y0);
+                assert!(d <= bound, "{what}: differs by {d:e} (bound {bound:e})");
+                differs |= y0 != y1;
+            }
+            assert!(
+                differs,
+                "{} {}: bit-identical to the original",
+                fam.name, v.name
+            );
+        }
+    }
+}
+
+#[test]
+fn rewrites_differ_from_their_originals_within_one_step() {
+    // One step of 0.1 from a few points of the Kepler orbit (the state after
+    // 0, 1, ..., 7 steps of the original): every rewrite agrees to 16 ulp
+    // relative (common practice, no source) and differs in the last bits on
+    // at least one of them.
+    let p = drift::problem::kepler::Kepler::default();
+    for fam in families() {
+        let (original, rewrites) = fam.variants.split_first().unwrap();
+        for v in rewrites {
+            let mut differs = false;
+            for k in 0..8u64 {
+                let t = 0.1 * k as f64;
+                let mut start = vec![0.0; 4];
+                p.initial(&mut start);
+                if k > 0 {
+                    (original.run)(&p, t, Control::Steps(k), &mut start).unwrap();
+                }
+                let moved = Shifted {
+                    p: &p,
+                    t0: t,
+                    y0: start.clone(),
+                };
+                let one = |var: &Variant| {
+                    let mut y = start.clone();
+                    (var.run)(&moved, t + 0.1, Control::Steps(1), &mut y).unwrap();
+                    y
+                };
+                let (y0, y1) = (one(original), one(v));
+                let d = rel_diff(&y1, &y0);
+                assert!(
+                    d <= 16.0 * f64::EPSILON,
+                    "{} {} at step {k}: {d:e}",
+                    fam.name,
+                    v.name
+                );
+                differs |= y0 != y1;
+            }
+            assert!(
+                differs,
+                "{} {}: bit-identical on every one-step case",
+                fam.name, v.name
+            );
+        }
+    }
+}
+
+/// A problem started at another time (`t0`) and state (`y0`).
+struct Shifted<'a, P> {
+    p: &'a P,
+    t0: f64,
+    y0: Vec<f64>,
+}
+
+impl<P: drift::Problem> drift::Problem for Shifted<'_, P> {
+    fn name(&self) -> &str {
+        self.p.name()
+    }
+    fn t0(&self) -> f64 {
+        self.t0
+    }
+    fn initial(&self, y0: &mut [f64]) {
+        y0.copy_from_slice(&self.y0);
+    }
+    fn time_unit(&self) -> f64 {
+        self.p.time_unit()
+    }
+    fn accel(&self, t: f64, q: &[f64], a: &mut [f64]) -> bool {
+        self.p.accel(t, q, a)
+    }
+}
+
+impl<P: drift::Problem> Rhs for Shifted<'_, P> {
+    fn dim(&self) -> usize {
+        Rhs::dim(self.p)
+    }
+    fn rhs(&self, t: f64, y: &[f64], dydt: &mut [f64]) {
+        self.p.rhs(t, y, dydt)
+    }
+}
+
+#[test]
+fn integrator_rewrites_take_the_same_adaptive_path() {
+    // The adaptive rewrites keep the controller (shared driver, same error
+    // weights): at tolerance 1e-8 on each smooth problem over 10 time units
+    // they take the same accepted and rejected steps and end within
+    // 1e-10 relative of the original (common practice, no source: rounding
+    // moves the step sizes by a few ulp, well below the tolerance).
+    let tol = Control::Tolerance {
+        rtol: 1e-8,
+        atol: 1e-8,
+    };
+    for fam in families().into_iter().filter(|f| f.order >= 5.0) {
+        let (original, rewrites) = fam.variants.split_first().unwrap();
+        for v in rewrites {
+            for p in smooth_problems() {
+                let what = format!("{} {} on {}", fam.name, v.name, p.name());
+                let (y0, c0, e0) = run_variant(original, p.as_ref(), 10.0, tol);
+                let (y1, c1, e1) = run_variant(v, p.as_ref(), 10.0, tol);
+                assert_eq!((c0, e0), (c1, e1), "{what}");
+                let d = rel_diff(&y1, &y0);
+                assert!(d <= 1e-10, "{what}: {d:e}");
+            }
+        }
+    }
 }

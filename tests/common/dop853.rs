@@ -9,8 +9,8 @@
 //! `dopri853`; read only, not a dependency). One departure from that file:
 //! it stores `c_12 = 0`, while the method has `c_12 = 1` (the row sum of
 //! `a_12j`, and the DOP853 code evaluates the 12th stage at `x + h`); we use
-//! 1. tests/steppers.rs verifies every coefficient against the order
-//! conditions of all rooted trees up to order 8.
+//! `c_12 = 1`. tests/steppers.rs verifies every coefficient against the
+//! order conditions of all rooted trees up to order 8.
 
 use drift::Rhs;
 

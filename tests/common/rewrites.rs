@@ -256,9 +256,10 @@ impl SplitStepper for LeapfrogTaylor {
 /// The triple jump over [`LeapfrogFused`].
 pub type TripleJumpFused = TripleJumpOf<LeapfrogFused>;
 
-/// The triple jump with the middle substep taken as the remainder:
-/// `h1 = w1 h`, `h0 = h - 2 h1` (equal to `w0 h`, since `w0 = 1 - 2 w1`),
-/// substeps starting at `t`, `t + h1`, `t + (h1 + h0)`.
+/// The triple jump with the middle weight taken as the remainder of the
+/// consistency condition, `w0 = 1 - 2 w1` (Yoshida 1990; equal to
+/// `-2^(1/3)/(2 - 2^(1/3))`, one ulp apart in f64): substeps `h1 = w1 h`,
+/// `h0 = (1 - 2 w1) h`, starting at `t`, `t + h1`, `t + (h1 + h0)`.
 #[derive(Default)]
 pub struct TripleJumpRemainder {
     inner: Leapfrog,
@@ -268,7 +269,7 @@ impl SplitStepper for TripleJumpRemainder {
     fn step<A: Accel + ?Sized>(&mut self, f: &A, t: f64, q: &mut [f64], v: &mut [f64], h: f64) {
         let (_, w1) = TripleJump::weights();
         let h1 = w1 * h;
-        let h0 = h - 2.0 * h1;
+        let h0 = (1.0 - 2.0 * w1) * h;
         self.inner.step(f, t, q, v, h1);
         self.inner.step(f, t + h1, q, v, h0);
         self.inner.step(f, t + (h1 + h0), q, v, h1);
