@@ -432,7 +432,7 @@ fn check_claims(now: &CheckRecord, claims: &Claims, rows: &mut Rows) {
 ///     fit: Some(OrderFit { order: 3.99, residual: 0.0, first: 0, last: 1 }),
 ///     best: None, plateau_from: None, floor_from: None, evals_per_step: 4.0,
 ///     invariants: Default::default(), period_digits: None, virial_digits: None,
-///     reversibility_digits: None, diverged_at: None,
+///     reversibility_digits: None, diverged_at: None, runs: Default::default(),
 /// };
 /// let rows = claim_rows(&r, &Claims { order: Some(4.0), ..Claims::default() });
 /// assert_eq!(rows.len(), 1);
@@ -465,6 +465,7 @@ pub fn claim_rows(now: &CheckRecord, claims: &Claims) -> Vec<MetricRow> {
 ///     best: Some(Best { digits: 4.4, rung: 2 }), plateau_from: None, floor_from: None,
 ///     evals_per_step: 4.0, invariants: Default::default(), period_digits: None,
 ///     virial_digits: None, reversibility_digits: None, diverged_at: None,
+///     runs: Default::default(),
 /// };
 /// let claims = Claims { order: Some(4.0), ..Claims::default() };
 /// assert_eq!(judge(&r, Some(&r), &claims, &Slack::default()).verdict, Verdict::Pass);

@@ -48,14 +48,28 @@ pub struct CheckOutcome {
     pub detail: Option<Detail>,
 }
 
-/// The ladder a check runs: the baseline's stored ladder when the plan's is
-/// automatic, so every later run repeats exactly the recorded rungs.
+/// The configuration a check runs: the plan's, with what the baseline
+/// stored repeated where the plan leaves the choice to the tool, so every
+/// later run repeats exactly the recorded rungs (an automatic ladder), the
+/// recorded long run (an automatic long run over the same asked horizon)
+/// and the recorded reversibility run (over the same ladder horizon).
 fn ladder_for(plan: &Plan, recorded: Option<&CheckRecord>) -> Config {
     let mut config = plan.config.clone();
-    if let (Ladder::Auto { .. }, Some(LadderRecord::Steps(steps))) =
-        (&config.ladder, recorded.map(|r| &r.ladder))
-    {
+    let Some(recorded) = recorded else {
+        return config;
+    };
+    if let (Ladder::Auto { .. }, LadderRecord::Steps(steps)) = (&config.ladder, &recorded.ladder) {
         config.ladder = Ladder::Steps(steps.clone());
+    }
+    if let (Some(lr), Some(at)) = (config.long_run.as_mut(), recorded.runs.long_run) {
+        if lr.steps_per_unit.is_none() && recorded.runs.long_run_asked() == Some(lr.periods) {
+            lr.repeat = Some(at);
+        }
+    }
+    if let Some(at) = recorded.runs.reversibility {
+        if config.reversibility && at.periods == config.periods {
+            config.reversibility_at = Some(at);
+        }
     }
     config
 }
