@@ -738,3 +738,27 @@ fn an_empty_checks_map_round_trips() {
     };
     assert_eq!(Baseline::parse(&b.to_toml(), path()).unwrap(), b);
 }
+
+/// Record mode keeps the record of a check the file no longer plans and
+/// names it, with why, in its summary.
+#[test]
+fn record_summary_names_checks_no_longer_planned() {
+    let dir = scratch("unplanned");
+    let file = dir.join(FILE);
+    let old = baseline_of(&[
+        ("rk4/harmonic", &measurement()),
+        ("rk4/kepler", &measurement()),
+    ]);
+    let gone = [drift::spec::Unplanned {
+        name: "rk4/kepler".into(),
+        reason: "left out by `skip` in [stepper.rk4] at drift.toml:2".into(),
+    }];
+    let summary = drift::harness::output::record(&file, Some(&old), &[], &gone).unwrap();
+    assert!(
+        summary.contains("rk4/kepler (left out by `skip` in [stepper.rk4] at drift.toml:2)"),
+        "{summary}"
+    );
+    let written = Baseline::load(&file).unwrap().unwrap();
+    assert!(written.checks.contains_key("rk4/kepler"));
+    fs::remove_dir_all(&dir).unwrap();
+}
