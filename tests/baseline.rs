@@ -13,7 +13,8 @@ use drift::baseline::{
 };
 use drift::claims::{Claims, EnergyClaim, Slack};
 use drift::measure::{
-    Basis, InvariantReport, LongRunReport, Measurement, MethodKind, PeriodReport, Resolution, Rung,
+    Basis, InvariantReport, LongRunReport, Measurement, MethodKind, PeriodReport, Resolution,
+    RunAt, Rung,
 };
 use drift::metrics::{Best, DriftClass, DriftFit, FitStatus, OrderFit, RungClass, SeriesAnalysis};
 
@@ -84,6 +85,7 @@ fn measurement() -> Measurement {
         long_run: Some(LongRunReport {
             steps_per_unit: 16,
             periods: 1000.0,
+            requested_periods: 1000.0,
             drift_forward: vec![Some(drift(0.01))],
             drift_backward: vec![Some(drift(0.02))],
             envelopes: vec![],
@@ -97,6 +99,10 @@ fn measurement() -> Measurement {
             diverged_at: None,
         }),
         reversibility_digits: Some(14.0),
+        reversibility_run: Some(RunAt {
+            steps_per_unit: 16,
+            periods: 10.0,
+        }),
         evals_per_step: 4.0,
         diverged: None,
     }
@@ -147,6 +153,7 @@ fn tolerance_measurement() -> Measurement {
         invariants: vec![],
         long_run: None,
         reversibility_digits: None,
+        reversibility_run: None,
         evals_per_step: 7.0,
         diverged: None,
     }
@@ -256,6 +263,71 @@ fn malformed_files_name_file_line_and_column() {
     let bad = text.replace("evals_per_step = 4.0", "evals_per_step = 4.0\nspeed = 1");
     let e = Baseline::parse(&bad, path()).unwrap_err();
     assert_eq!(e.position, Some((line_of(&bad, "speed"), 1)), "{e}");
+}
+
+/// The long run's and the reversibility run's resolution and horizon are
+/// stored (the asked horizon only when the budget shortened the run), read
+/// back, and validated; a file written before these keys still loads, with
+/// no stored runs (later runs then choose automatically).
+#[test]
+fn long_run_resolution_and_horizon_round_trip() {
+    let mut m = measurement();
+    let lr = m.long_run.as_mut().unwrap();
+    (lr.steps_per_unit, lr.periods, lr.requested_periods) = (16384, 61.0, 1000.0);
+    let text = baseline_of(&[("heun/kepler", &m)]).to_toml();
+    for key in [
+        "long_run_steps_per_unit = 16384\n",
+        "long_run_periods = 61.0\n",
+        "long_run_requested_periods = 1000.0\n",
+        "reversibility_steps_per_unit = 16\n",
+        "reversibility_periods = 10.0\n",
+    ] {
+        assert!(text.contains(key), "{key} in {text}");
+    }
+    let back = Baseline::parse(&text, path()).unwrap();
+    let runs = back.checks["heun/kepler"].runs;
+    assert_eq!(runs.shortened(), Some((61.0, 1000.0)));
+    assert_eq!(
+        runs.reversibility,
+        Some(RunAt {
+            steps_per_unit: 16,
+            periods: 10.0
+        })
+    );
+
+    // Not shortened: no asked horizon is written.
+    let whole = baseline_of(&[("rk4/harmonic", &measurement())]).to_toml();
+    assert!(!whole.contains("long_run_requested_periods"), "{whole}");
+    assert_eq!(
+        Baseline::parse(&whole, path()).unwrap().checks["rk4/harmonic"]
+            .runs
+            .long_run_asked(),
+        Some(1000.0)
+    );
+
+    // An older file without the keys loads.
+    let old: String = whole
+        .lines()
+        .filter(|l| {
+            !l.starts_with("long_run_")
+                && !l.starts_with("reversibility_steps")
+                && !l.starts_with("reversibility_periods")
+        })
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let loaded = Baseline::parse(&old, path()).unwrap();
+    assert_eq!(loaded.checks["rk4/harmonic"].runs, Default::default());
+
+    // Keys that go together, and an asked horizon that is not longer.
+    let lone = whole.replace("long_run_periods = 1000.0\n", "");
+    let e = Baseline::parse(&lone, path()).unwrap_err();
+    assert!(e.message.contains("long_run_steps_per_unit"), "{e}");
+    let not_longer = text.replace(
+        "long_run_requested_periods = 1000.0",
+        "long_run_requested_periods = 61.0",
+    );
+    let e = Baseline::parse(&not_longer, path()).unwrap_err();
+    assert!(e.message.contains("long_run_requested_periods"), "{e}");
 }
 
 #[test]
@@ -735,4 +807,28 @@ fn an_empty_checks_map_round_trips() {
         checks: BTreeMap::new(),
     };
     assert_eq!(Baseline::parse(&b.to_toml(), path()).unwrap(), b);
+}
+
+/// Record mode keeps the record of a check the file no longer plans and
+/// names it, with why, in its summary.
+#[test]
+fn record_summary_names_checks_no_longer_planned() {
+    let dir = scratch("unplanned");
+    let file = dir.join(FILE);
+    let old = baseline_of(&[
+        ("rk4/harmonic", &measurement()),
+        ("rk4/kepler", &measurement()),
+    ]);
+    let gone = [drift::spec::Unplanned {
+        name: "rk4/kepler".into(),
+        reason: "left out by `skip` in [stepper.rk4] at drift.toml:2".into(),
+    }];
+    let summary = drift::harness::output::record(&file, Some(&old), &[], &gone).unwrap();
+    assert!(
+        summary.contains("rk4/kepler (left out by `skip` in [stepper.rk4] at drift.toml:2)"),
+        "{summary}"
+    );
+    let written = Baseline::load(&file).unwrap().unwrap();
+    assert!(written.checks.contains_key("rk4/kepler"));
+    fs::remove_dir_all(&dir).unwrap();
 }

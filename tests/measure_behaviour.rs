@@ -4,14 +4,18 @@
 mod common;
 
 use common::steppers::*;
+use drift::baseline::CheckRecord;
+use drift::harness::check::ladder_for;
 use drift::measure::{
-    measure, Config, Fixed, Ladder, LongRun, MeasureError, Measurement, Method, Split, Whole,
+    measure, Config, Fixed, Ladder, LongRun, MeasureError, Measurement, Method, MethodKind, Split,
+    Whole,
 };
 use drift::metrics::DriftClass;
 use drift::problem::{
     damped::Damped, driven::Driven, harmonic::Harmonic, kepler::Kepler, pendulum::Pendulum,
     power_law::PowerLaw,
 };
+use drift::spec::{Catalog, Plan, PlanProblem, Spec};
 use drift::{Problem, Rhs, Stepper};
 
 fn run<M: Method>(mut m: M, p: &dyn Problem, cfg: &Config) -> Measurement {
@@ -26,6 +30,7 @@ fn long(n: u64, periods: f64) -> Config {
             periods,
             steps_per_unit: Some(n),
             max_steps: u64::MAX,
+            repeat: None,
         }),
         ..Config::default()
     }
@@ -418,4 +423,119 @@ fn adaptive_achieved_error_against_requested_tolerance() {
         "achieved digits follow the tolerance: {pairs:?}"
     );
     assert!(eccentric.rungs.iter().any(|r| r.rejected > 0));
+}
+
+/// The plan a drift.toml without settings gives `stepper/problem`: the
+/// default horizon, budget (4e6 steps, so 1e6 per direction of the long run)
+/// and long run of 1000 time units.
+fn default_plan(stepper: &str, kind: MethodKind, problem: &str) -> Plan {
+    let catalog = Catalog {
+        steppers: vec![(stepper.to_string(), kind)],
+        user_problems: vec![],
+    };
+    let name = format!("{stepper}/{problem}");
+    Spec::default_for(&catalog)
+        .plans()
+        .into_iter()
+        .find(|p| p.name == name)
+        .unwrap_or_else(|| panic!("no plan {name}"))
+}
+
+/// Measures `method` on the built-in problem of `plan` with `config`.
+fn measure_plan<M: Method>(mut method: M, plan: &Plan, config: &Config) -> Measurement {
+    let PlanProblem::Builtin { info, params } = &plan.problem else {
+        panic!("{} is not built in", plan.name)
+    };
+    let problem = info.build(params).unwrap();
+    problem
+        .measure_with(&mut method, config)
+        .unwrap_or_else(|e| panic!("{}: {e}", plan.name))
+}
+
+/// The long run of a default plan is made over the whole horizon asked for.
+fn whole_horizon(m: &Measurement) -> f64 {
+    let lr = m.long_run.as_ref().expect("a long run");
+    assert_eq!(lr.periods, lr.requested_periods, "shortened long run");
+    lr.periods
+}
+
+/// Heun's method is not symplectic: its tableau (b = (1/2, 1/2), a21 = 1)
+/// breaks the condition b_i a_ij + b_j a_ji = b_i b_j of symplectic
+/// Runge-Kutta methods (Hairer, Lubich and Wanner, Geometric Numerical
+/// Integration, 2nd ed., Theorem VI.4.3), so its energy error drifts
+/// linearly in time (ibid., ch. IX). With the default settings the long run
+/// must cover the whole 1000 time units and read that drift on the Kepler
+/// problem at its default parameters.
+#[test]
+fn heun_energy_drift_on_kepler_reads_linear_at_default_settings() {
+    let plan = default_plan("heun", MethodKind::Fixed, "kepler");
+    let m = measure_plan(Fixed(Heun::default()), &plan, &plan.config);
+    assert_eq!(whole_horizon(&m), 1000.0);
+    assert_eq!(energy_drift(&m).0, DriftClass::Linear, "{:?}", m.invariants);
+}
+
+/// Stormer-Verlet (leapfrog) is symplectic (Hairer, Lubich and Wanner,
+/// Theorem VI.3.4) and keeps the energy error bounded over long times
+/// (ibid., ch. IX), also where the automatic choice of the long run puts it
+/// under the default settings, over the whole horizon.
+#[test]
+fn leapfrog_energy_stays_bounded_at_default_settings() {
+    for problem in ["kepler", "harmonic", "pendulum"] {
+        let plan = default_plan("leapfrog", MethodKind::Split, problem);
+        let m = measure_plan(Split(Leapfrog::default()), &plan, &plan.config);
+        assert_eq!(whole_horizon(&m), 1000.0, "{problem}");
+        assert_eq!(
+            energy_drift(&m),
+            (DriftClass::Bounded, DriftClass::Bounded),
+            "leapfrog on {problem}"
+        );
+    }
+}
+
+/// A planted bug (0.49 for the 0.5 of RK4's second stage weight h k2, which
+/// drops the order to 1: Hairer, Norsett and Wanner I, II.1, order
+/// conditions) measured against the record of the correct RK4 (Kutta 1901;
+/// HNW I, Table II.1.2) repeats the recorded long run and reversibility
+/// run, so its period, virial and reversibility figures cannot come out
+/// better through a finer step. On its own the broken method would be run
+/// finer (it needs more steps for 3 digits), which is how it used to earn
+/// better figures.
+#[test]
+fn a_planted_bug_is_measured_where_the_correct_method_was_recorded() {
+    let plan = default_plan("rk4", MethodKind::Fixed, "harmonic");
+    let good =
+        CheckRecord::from_measurement(&measure_plan(Fixed(Rk4::default()), &plan, &plan.config));
+    let config = ladder_for(&plan, Some(&good));
+    let bad = CheckRecord::from_measurement(&measure_plan(
+        Fixed(Rk4WrongCoef::default()),
+        &plan,
+        &config,
+    ));
+    let (g, b) = (good.runs, bad.runs);
+    assert!(g.long_run.is_some() && g.reversibility.is_some(), "{g:?}");
+    assert_eq!(b.long_run, g.long_run);
+    assert_eq!(b.reversibility, g.reversibility);
+    for (what, now, before) in [
+        ("period", bad.period_digits, good.period_digits),
+        ("virial", bad.virial_digits, good.virial_digits),
+        (
+            "reversibility",
+            bad.reversibility_digits,
+            good.reversibility_digits,
+        ),
+    ] {
+        let (now, before) = (now.expect(what), before.expect(what));
+        assert!(
+            now <= before,
+            "{what}: {now} digits against {before} recorded"
+        );
+    }
+    // Without the record the broken method's own choice is finer.
+    let alone = CheckRecord::from_measurement(&measure_plan(
+        Fixed(Rk4WrongCoef::default()),
+        &plan,
+        &plan.config,
+    ));
+    let n = |r: &CheckRecord| r.runs.long_run.unwrap().steps_per_unit;
+    assert!(n(&alone) > n(&good), "{} against {}", n(&alone), n(&good));
 }

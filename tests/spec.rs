@@ -158,7 +158,8 @@ fn a_full_file_gives_the_declared_checks_and_batteries() {
         Some(LongRun {
             periods: 500.0,
             steps_per_unit: None,
-            max_steps: 100_000 / 4
+            max_steps: 100_000 / 4,
+            repeat: None,
         })
     );
     assert!(eccentric.config.reversibility);
@@ -264,7 +265,8 @@ fn an_empty_file_runs_every_stepper_on_its_battery() {
         Some(LongRun {
             periods: 1000.0,
             steps_per_unit: None,
-            max_steps: 1_000_000
+            max_steps: 1_000_000,
+            repeat: None,
         })
     );
     assert!(rk4.config.reversibility);
@@ -585,4 +587,62 @@ fn claims_that_the_configuration_cannot_measure_are_errors() {
 fn tags_are_restricted_to_name_characters() {
     let e = err("[[check]]\nstepper = \"rk4\"\nproblem = \"kepler\"\ntag = \"a/b\"\n");
     assert_at(&e, 4, 7, &["stepper/problem:tag"]);
+}
+
+/// Recorded checks that the file no longer plans are named with why: a
+/// `skip` entry (with its line), a battery that is off (declared, or off
+/// because the stepper has checks), a stepper that is no longer registered,
+/// and a check that is no longer declared. Planned checks are not named.
+#[test]
+fn recorded_checks_no_longer_planned_say_why() {
+    let text = "[stepper.rk4]\nskip = [\"kepler\", \"pendulum\"]\n\n[stepper.leapfrog]\nbattery = false\n\n[[check]]\nstepper = \"leapfrog\"\nproblem = \"harmonic\"\ntag = \"short\"\n\n[[check]]\nstepper = \"dopri\"\nproblem = \"kepler\"\n";
+    let spec = parse(text).unwrap();
+    let recorded = [
+        "rk4/harmonic",
+        "rk4/kepler",
+        "rk4/pendulum",
+        "leapfrog/kepler",
+        "leapfrog/harmonic:short",
+        "leapfrog/harmonic:long",
+        "dopri/harmonic",
+        "gone/harmonic",
+    ];
+    let gone = spec.unplanned(recorded);
+    let why: BTreeMap<&str, &str> = gone
+        .iter()
+        .map(|u| (u.name.as_str(), u.reason.as_str()))
+        .collect();
+    assert_eq!(
+        why.keys().copied().collect::<Vec<_>>(),
+        [
+            "dopri/harmonic",
+            "gone/harmonic",
+            "leapfrog/harmonic:long",
+            "leapfrog/kepler",
+            "rk4/kepler",
+            "rk4/pendulum"
+        ]
+    );
+    assert_eq!(
+        why["rk4/kepler"],
+        "left out by `skip` in [stepper.rk4] at drift.toml:2"
+    );
+    assert_eq!(why["rk4/pendulum"], why["rk4/kepler"]);
+    assert_eq!(
+        why["leapfrog/kepler"],
+        "the battery of `leapfrog` is off (`battery = false` at drift.toml:5)"
+    );
+    assert!(
+        why["dopri/harmonic"].contains("battery of `dopri` is off: it has `[[check]]`"),
+        "{}",
+        why["dopri/harmonic"]
+    );
+    assert!(why["gone/harmonic"].contains("no stepper `gone`"));
+    assert_eq!(
+        why["leapfrog/harmonic:long"],
+        "drift.toml no longer declares it"
+    );
+    // A check declared under a skipped problem's name is planned after all.
+    let declared = parse("[stepper.rk4]\nbattery = true\nskip = [\"kepler\"]\n\n[[check]]\nstepper = \"rk4\"\nproblem = \"kepler\"\n").unwrap();
+    assert!(declared.unplanned(["rk4/kepler"]).is_empty());
 }

@@ -10,9 +10,9 @@ use std::ops::Range;
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-use super::record::{CheckRecord, DriftRecord, InvariantRecord, LadderRecord};
+use super::record::{CheckRecord, DriftRecord, InvariantRecord, LadderRecord, RunsRecord};
 use super::Header;
-use crate::measure::{Basis, MethodKind};
+use crate::measure::{Basis, MethodKind, RunAt};
 use crate::metrics::{Best, DriftClass, FitStatus, OrderFit, RungClass, MAX_DIGITS};
 
 /// Digits value that stands for "no figure at this rung".
@@ -83,6 +83,11 @@ pub(super) struct RawCheck {
     virial_digits: Option<f64>,
     reversibility_digits: Option<f64>,
     diverged_at: Option<f64>,
+    long_run_steps_per_unit: Option<u64>,
+    long_run_periods: Option<f64>,
+    long_run_requested_periods: Option<f64>,
+    reversibility_steps_per_unit: Option<u64>,
+    reversibility_periods: Option<f64>,
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     invariant: BTreeMap<String, RawInvariant>,
 }
@@ -98,6 +103,21 @@ struct RawInvariant {
     drift_forward_exponent: Option<f64>,
     drift_backward: Option<DriftClass>,
     drift_backward_exponent: Option<f64>,
+}
+
+/// A run's resolution and horizon from its two keys (`what_steps_per_unit`,
+/// `what_periods`), which go together.
+fn join_run(steps: Option<u64>, periods: Option<f64>, what: &str) -> Result<Option<RunAt>, String> {
+    match (steps, periods) {
+        (Some(n), Some(p)) if n > 0 && p.is_finite() && p > 0.0 => Ok(Some(RunAt {
+            steps_per_unit: n,
+            periods: p,
+        })),
+        (None, None) => Ok(None),
+        _ => Err(format!(
+            "`{what}_steps_per_unit` (at least 1) and `{what}_periods` (positive) go together"
+        )),
+    }
 }
 
 fn split_drift(d: Option<DriftRecord>) -> (Option<DriftClass>, Option<f64>) {
@@ -166,6 +186,11 @@ impl From<&CheckRecord> for RawCheck {
             virial_digits: r.virial_digits,
             reversibility_digits: r.reversibility_digits,
             diverged_at: r.diverged_at,
+            long_run_steps_per_unit: r.runs.long_run.map(|a| a.steps_per_unit),
+            long_run_periods: r.runs.long_run.map(|a| a.periods),
+            long_run_requested_periods: r.runs.long_run_requested,
+            reversibility_steps_per_unit: r.runs.reversibility.map(|a| a.steps_per_unit),
+            reversibility_periods: r.runs.reversibility.map(|a| a.periods),
             invariant,
         }
     }
@@ -285,6 +310,18 @@ impl RawCheck {
                 Ok((name, inv))
             })
             .collect::<Result<_, String>>()?;
+        let long_run = join_run(
+            self.long_run_steps_per_unit,
+            self.long_run_periods,
+            "long_run",
+        )?;
+        let long_run_requested = match (self.long_run_requested_periods, long_run) {
+            (None, _) => None,
+            (Some(asked), Some(run)) if asked > run.periods => Some(asked),
+            (Some(_), _) => return Err(
+                "`long_run_requested_periods` needs `long_run_periods` and must exceed it (it is kept only when the run was shortened)".into(),
+            ),
+        };
         Ok(CheckRecord {
             kind: self.kind,
             basis: self.basis,
@@ -301,6 +338,15 @@ impl RawCheck {
             virial_digits: self.virial_digits,
             reversibility_digits: self.reversibility_digits,
             diverged_at: self.diverged_at,
+            runs: RunsRecord {
+                long_run,
+                long_run_requested,
+                reversibility: join_run(
+                    self.reversibility_steps_per_unit,
+                    self.reversibility_periods,
+                    "reversibility",
+                )?,
+            },
         })
     }
 }

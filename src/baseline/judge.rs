@@ -610,7 +610,7 @@ fn check_claims(now: &CheckRecord, claims: &Claims, rows: &mut Rows) {
 ///     fit: Some(OrderFit { order: 3.99, residual: 0.0, first: 0, last: 1, low: 3.97, high: 4.01, status: FitStatus::Asymptotic }),
 ///     best: None, plateau_from: None, floor_from: None, evals_per_step: 4.0,
 ///     invariants: Default::default(), period_digits: None, virial_digits: None,
-///     reversibility_digits: None, diverged_at: None,
+///     reversibility_digits: None, diverged_at: None, runs: Default::default(),
 /// };
 /// let rows = claim_rows(&r, &Claims { order: Some(4.0), ..Claims::default() });
 /// assert_eq!(rows.len(), 1);
@@ -643,6 +643,7 @@ pub fn claim_rows(now: &CheckRecord, claims: &Claims) -> Vec<MetricRow> {
 ///     best: Some(Best { digits: 4.4, rung: 2, uncertainty: 0.0 }), plateau_from: None, floor_from: None,
 ///     evals_per_step: 4.0, invariants: Default::default(), period_digits: None,
 ///     virial_digits: None, reversibility_digits: None, diverged_at: None,
+///     runs: Default::default(),
 /// };
 /// let claims = Claims { order: Some(4.0), ..Claims::default() };
 /// assert_eq!(judge(&r, Some(&r), &claims, &Slack::default()).verdict, Verdict::Pass);

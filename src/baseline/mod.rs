@@ -12,7 +12,9 @@ pub mod judge;
 pub mod record;
 
 pub use judge::{claim_rows, judge, Judgement, MetricRow, RowStatus, Verdict};
-pub use record::{round_figure, CheckRecord, DriftRecord, InvariantRecord, LadderRecord, DECIMALS};
+pub use record::{
+    round_figure, CheckRecord, DriftRecord, InvariantRecord, LadderRecord, RunsRecord, DECIMALS,
+};
 
 use std::collections::BTreeMap;
 use std::fmt;

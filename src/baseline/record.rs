@@ -3,7 +3,7 @@
 
 use std::collections::BTreeMap;
 
-use crate::measure::{Basis, Measurement, MethodKind, Resolution};
+use crate::measure::{Basis, Measurement, MethodKind, Resolution, RunAt};
 use crate::metrics::{Best, DriftClass, DriftFit, OrderFit, RungClass};
 
 /// Decimals every figure is rounded to in the baseline.
@@ -103,6 +103,44 @@ pub struct InvariantRecord {
     pub drift_backward: Option<DriftRecord>,
 }
 
+/// Where the runs beside the ladder were made, so that later runs whose
+/// long run is automatic repeat them (as they repeat the recorded ladder)
+/// and a worse method cannot earn better long-run figures at a finer step.
+///
+/// ```
+/// use drift::baseline::RunsRecord;
+/// use drift::measure::RunAt;
+/// let r = RunsRecord {
+///     long_run: Some(RunAt { steps_per_unit: 16384, periods: 61.0 }),
+///     long_run_requested: Some(1000.0),
+///     reversibility: Some(RunAt { steps_per_unit: 16384, periods: 10.0 }),
+/// };
+/// assert_eq!(r.long_run_asked(), Some(1000.0));
+/// assert_eq!(r.shortened(), Some((61.0, 1000.0)));
+/// assert_eq!(RunsRecord::default().shortened(), None);
+/// ```
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct RunsRecord {
+    /// Resolution and horizon of the long run as run.
+    pub long_run: Option<RunAt>,
+    /// The horizon asked for, kept only when the budget shortened the run.
+    pub long_run_requested: Option<f64>,
+    /// Resolution and horizon of the reversibility run.
+    pub reversibility: Option<RunAt>,
+}
+
+impl RunsRecord {
+    /// The long-run horizon that was asked for (the one run unless shortened).
+    pub fn long_run_asked(&self) -> Option<f64> {
+        self.long_run_requested.or(self.long_run.map(|a| a.periods))
+    }
+
+    /// `(run, asked)` horizons when the budget shortened the long run.
+    pub fn shortened(&self) -> Option<(f64, f64)> {
+        Some((self.long_run?.periods, self.long_run_requested?))
+    }
+}
+
 /// Everything the baseline keeps of one check, figures rounded to
 /// [`DECIMALS`] decimals.
 #[derive(Clone, Debug, PartialEq)]
@@ -137,6 +175,8 @@ pub struct CheckRecord {
     pub reversibility_digits: Option<f64>,
     /// Time at which the method diverged (NaN or infinity), if it did.
     pub diverged_at: Option<f64>,
+    /// Where the long run and the reversibility run were made.
+    pub runs: RunsRecord,
 }
 
 impl CheckRecord {
@@ -159,7 +199,7 @@ impl CheckRecord {
     ///     problem: "harmonic".into(), kind: MethodKind::Fixed, basis: Basis::Exact,
     ///     solution: analyse_series(&x, &d, &[160, 320, 640]), rungs,
     ///     invariants: vec![], long_run: None, reversibility_digits: None,
-    ///     evals_per_step: 4.0, diverged: None,
+    ///     reversibility_run: None, evals_per_step: 4.0, diverged: None,
     /// };
     /// let r = CheckRecord::from_measurement(&m);
     /// assert_eq!(r.ladder, LadderRecord::Steps(vec![16, 32, 64]));
@@ -236,6 +276,19 @@ impl CheckRecord {
             virial_digits: long.and_then(|l| l.virial_digits).map(round_figure),
             reversibility_digits: m.reversibility_digits.map(round_figure),
             diverged_at: m.diverged.map(|d| round_figure(d.t)),
+            runs: RunsRecord {
+                long_run: long.map(|l| RunAt {
+                    steps_per_unit: l.steps_per_unit,
+                    periods: round_figure(l.periods),
+                }),
+                long_run_requested: long
+                    .filter(|l| l.requested_periods > l.periods)
+                    .map(|l| round_figure(l.requested_periods)),
+                reversibility: m.reversibility_run.map(|r| RunAt {
+                    periods: round_figure(r.periods),
+                    ..r
+                }),
+            },
         }
     }
 }

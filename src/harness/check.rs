@@ -48,14 +48,48 @@ pub struct CheckOutcome {
     pub detail: Option<Detail>,
 }
 
-/// The ladder a check runs: the baseline's stored ladder when the plan's is
-/// automatic, so every later run repeats exactly the recorded rungs.
-fn ladder_for(plan: &Plan, recorded: Option<&CheckRecord>) -> Config {
+/// The configuration a check runs: the plan's, with what the baseline
+/// stored repeated where the plan leaves the choice to the tool, so every
+/// later run repeats exactly the recorded rungs (an automatic ladder), the
+/// recorded long run (an automatic long run over the same asked horizon)
+/// and the recorded reversibility run (over the same ladder horizon).
+///
+/// ```
+/// use drift::baseline::CheckRecord;
+/// use drift::harness::check::ladder_for;
+/// use drift::measure::{Ladder, MethodKind, RunAt};
+/// use drift::spec::{Catalog, Spec};
+/// let catalog = Catalog { steppers: vec![("rk4".into(), MethodKind::Fixed)], user_problems: vec![] };
+/// let plans = Spec::default_for(&catalog).plans();
+/// let plan = plans.iter().find(|p| p.name == "rk4/harmonic").unwrap();
+/// assert_eq!(ladder_for(plan, None), plan.config);
+/// let recorded: CheckRecord = serde_json::from_str(r#"{ "kind": "stepper", "basis": "exact",
+///     "steps_per_unit": [16, 32], "digits": [1.9, 3.1], "classes": ["fit", "fit"],
+///     "evals_per_step": 4.0, "long_run_steps_per_unit": 32, "long_run_periods": 1000.0,
+///     "reversibility_steps_per_unit": 32, "reversibility_periods": 10.0 }"#).unwrap();
+/// let config = ladder_for(plan, Some(&recorded));
+/// assert_eq!(config.ladder, Ladder::Steps(vec![16, 32]));
+/// let at = RunAt { steps_per_unit: 32, periods: 1000.0 };
+/// assert_eq!(config.long_run.unwrap().repeat, Some(at));
+/// assert_eq!(config.reversibility_at, Some(RunAt { periods: 10.0, ..at }));
+/// ```
+pub fn ladder_for(plan: &Plan, recorded: Option<&CheckRecord>) -> Config {
     let mut config = plan.config.clone();
-    if let (Ladder::Auto { .. }, Some(LadderRecord::Steps(steps))) =
-        (&config.ladder, recorded.map(|r| &r.ladder))
-    {
+    let Some(recorded) = recorded else {
+        return config;
+    };
+    if let (Ladder::Auto { .. }, LadderRecord::Steps(steps)) = (&config.ladder, &recorded.ladder) {
         config.ladder = Ladder::Steps(steps.clone());
+    }
+    if let (Some(lr), Some(at)) = (config.long_run.as_mut(), recorded.runs.long_run) {
+        if lr.steps_per_unit.is_none() && recorded.runs.long_run_asked() == Some(lr.periods) {
+            lr.repeat = Some(at);
+        }
+    }
+    if let Some(at) = recorded.runs.reversibility {
+        if config.reversibility && at.periods == config.periods {
+            config.reversibility_at = Some(at);
+        }
     }
     config
 }

@@ -325,16 +325,25 @@ impl Harness {
         let mut outcomes: Vec<CheckOutcome> =
             std::mem::take(&mut *shared.outcomes.lock().unwrap_or_else(|e| e.into_inner()));
         outcomes.sort_by(|a, b| a.name.cmp(&b.name));
+        let unplanned = shared.baseline.as_ref().map_or_else(Vec::new, |b| {
+            spec.unplanned(b.checks.keys().map(String::as_str))
+        });
         if let Some(path) = json {
             let mut doc = output::document(&outcomes);
             doc["baseline"] = serde_json::json!(baseline_path);
+            doc["unplanned"] = serde_json::json!(unplanned);
             write_json(&path, &doc)?;
         }
         if record {
-            let summary = output::record(&baseline_path, shared.baseline.as_ref(), &outcomes)
-                .map_err(|e| HarnessError::Write(e.to_string()))?;
+            let summary = output::record(
+                &baseline_path,
+                shared.baseline.as_ref(),
+                &outcomes,
+                &unplanned,
+            )
+            .map_err(|e| HarnessError::Write(e.to_string()))?;
             eprintln!("{summary}");
-        } else if let Some(note) = output::notes(&baseline_path, &outcomes) {
+        } else if let Some(note) = output::notes(&baseline_path, &outcomes, &unplanned) {
             eprintln!("{note}");
         }
         Ok(conclusion)

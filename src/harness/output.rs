@@ -5,6 +5,7 @@
 //! JSON layout, format 1:
 //! ```text
 //! { "format": 1, "tool": "0.1.0", "baseline": "path judged against",
+//!   "unplanned": [ { "name", "reason" } ] (recorded checks drift.toml no longer plans),
 //!   "environment": { "format", "tool", "target", "rustc", "profile", "features" },
 //!   "checks": [ { "name": "rk4/harmonic", "stepper": "rk4", "problem": "harmonic",
 //!                 "verdict": "pass" | "improved" | "new" | "regressed" | "claim-violated" | "error",
@@ -27,7 +28,7 @@ use serde_json::{json, Value};
 
 use crate::baseline::{Baseline, BaselineError, Header, LadderRecord, MetricRow, Verdict};
 use crate::measure::Ladder;
-use crate::spec::Plan;
+use crate::spec::{Plan, Unplanned};
 
 use super::check::CheckOutcome;
 
@@ -65,10 +66,15 @@ pub fn document(outcomes: &[CheckOutcome]) -> Value {
 /// measured (verdict other than error) replaced by its new figures. Checks
 /// not run (left out by a filter) keep their records unchanged; checks that
 /// errored are refused and keep theirs. Returns a one-line summary.
+///
+/// Recorded checks the file no longer plans (`unplanned`) keep their
+/// records too, and the summary names them with why; so do long runs that
+/// the budget shortened ([`run_notes`]).
 pub fn record(
     path: &Path,
     old: Option<&Baseline>,
     outcomes: &[CheckOutcome],
+    unplanned: &[Unplanned],
 ) -> Result<String, BaselineError> {
     let mut checks: BTreeMap<_, _> = old.map(|b| b.checks.clone()).unwrap_or_default();
     let (mut written, mut refused) = (0, Vec::new());
@@ -93,12 +99,67 @@ pub fn record(
             refused.join(", ")
         ));
     }
-    Ok(line)
+    let mut lines = vec![line];
+    lines.extend(run_notes(path, outcomes, unplanned));
+    Ok(lines.join("\n"))
+}
+
+/// Notes after any run, recording or not: each recorded check that the
+/// file no longer plans, with why (its record stays in the baseline), and
+/// each long run that the step budget shortened, with the horizon run and
+/// the one asked for.
+///
+/// ```
+/// use std::path::Path;
+/// use drift::harness::output::run_notes;
+/// use drift::spec::Unplanned;
+/// let gone = [Unplanned { name: "rk4/kepler".into(), reason: "left out by `skip`".into() }];
+/// let notes = run_notes(Path::new("drift-baseline.toml"), &[], &gone);
+/// assert_eq!(notes.len(), 1);
+/// assert!(notes[0].contains("rk4/kepler (left out by `skip`)"), "{}", notes[0]);
+/// assert!(run_notes(Path::new("b.toml"), &[], &[]).is_empty());
+/// ```
+pub fn run_notes(
+    baseline: &Path,
+    outcomes: &[CheckOutcome],
+    unplanned: &[Unplanned],
+) -> Vec<String> {
+    let mut lines = Vec::new();
+    if !unplanned.is_empty() {
+        let named: Vec<String> = unplanned
+            .iter()
+            .map(|u| format!("{} ({})", u.name, u.reason))
+            .collect();
+        lines.push(format!(
+            "drift: {} recorded checks in {} are no longer planned and keep their records: {}; delete their tables if they are gone for good",
+            unplanned.len(),
+            baseline.display(),
+            named.join(", ")
+        ));
+    }
+    for o in outcomes {
+        let runs = o.record.as_ref().map(|r| r.runs);
+        if let Some((run, asked, n)) = runs.and_then(|r| {
+            let (run, asked) = r.shortened()?;
+            Some((run, asked, r.long_run?.steps_per_unit))
+        }) {
+            lines.push(format!(
+                "drift: {}: the long run was shortened to {run} of {asked} time units (at {n} steps per unit the step budget does not hold the whole horizon); raise `budget` to run it whole",
+                o.name
+            ));
+        }
+    }
+    lines
 }
 
 /// A reminder after a run when checks have no record yet or improved, naming
-/// them and the command that records them; `None` when there is nothing to say.
-pub fn notes(baseline: &Path, outcomes: &[CheckOutcome]) -> Option<String> {
+/// them and the command that records them, followed by the [`run_notes`];
+/// `None` when there is nothing to say.
+pub fn notes(
+    baseline: &Path,
+    outcomes: &[CheckOutcome],
+    unplanned: &[Unplanned],
+) -> Option<String> {
     let named = |v: &str| -> Vec<&str> {
         outcomes
             .iter()
@@ -123,10 +184,11 @@ pub fn notes(baseline: &Path, outcomes: &[CheckOutcome]) -> Option<String> {
             improved.join(", ")
         ));
     }
-    (!lines.is_empty()).then(|| {
+    if !lines.is_empty() {
         lines.push("drift: record them with `DRIFT_RECORD=1 cargo test --test drift` and review the change".into());
-        lines.join("\n")
-    })
+    }
+    lines.extend(run_notes(baseline, outcomes, unplanned));
+    (!lines.is_empty()).then(|| lines.join("\n"))
 }
 
 /// The JSON document of the planned checks (`DRIFT_PLAN`), format 1:

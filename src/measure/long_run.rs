@@ -4,6 +4,7 @@
 
 use crate::measure::ladder::{grid, scaled_distance};
 use crate::measure::method::{advance_checked, Counted, Method};
+use crate::measure::RunAt;
 use crate::metrics::{digits, drift_fit, virial_residual, DriftFit};
 use crate::problem::Problem;
 use crate::stepper::IntegrateError;
@@ -104,8 +105,11 @@ impl Envelope {
 pub struct LongRunReport {
     /// Resolution of the run.
     pub steps_per_unit: u64,
-    /// Length in time units.
+    /// Length run, in time units.
     pub periods: f64,
+    /// Length asked for; more than `periods` when the step budget shortened
+    /// the run.
+    pub requested_periods: f64,
     /// Drift fit of each invariant, forward in time.
     pub drift_forward: Vec<Option<DriftFit>>,
     /// Drift fit of each invariant, backward in time.
@@ -285,14 +289,19 @@ fn pass<M: Method, P: Problem + ?Sized>(
     })
 }
 
-/// Runs the long run forward and backward at `n` steps per unit.
+/// Runs the long run forward and backward at `at` (`requested` is the
+/// horizon asked for, which the report keeps beside the one run).
 pub(crate) fn run<M: Method, P: Problem + ?Sized>(
     method: &mut M,
     problem: &P,
-    n: u64,
-    periods: f64,
+    at: RunAt,
+    requested: f64,
     samples_per_unit: u64,
 ) -> Result<LongRunReport, IntegrateError> {
+    let RunAt {
+        steps_per_unit: n,
+        periods,
+    } = at;
     let fwd = pass(method, problem, n, periods, samples_per_unit, true)?;
     let bwd = pass(method, problem, n, periods, samples_per_unit, false)?;
     let period = (fwd.crossings.len() >= 2).then(|| {
@@ -309,6 +318,7 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
     Ok(LongRunReport {
         steps_per_unit: n,
         periods,
+        requested_periods: requested.max(periods),
         drift_forward: fwd.drift,
         drift_backward: bwd.drift,
         envelopes: fwd.envelopes,

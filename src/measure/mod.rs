@@ -65,19 +65,38 @@ impl Ladder {
     }
 }
 
+/// Least solution digits of a ladder rung for the long run to run at its
+/// resolution: the truncation error is then well above rounding, so the
+/// drift of the method shows (common practice, no source).
+pub const LONG_RUN_DIGITS: f64 = 3.0;
+
+/// One run beside the ladder at one resolution over one horizon: where the
+/// long run or the reversibility run was made, as a baseline stores it, and
+/// what a later run repeats.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct RunAt {
+    /// Steps per time unit.
+    pub steps_per_unit: u64,
+    /// Horizon in time units.
+    pub periods: f64,
+}
+
 /// The long run that measures drift, period and virial residual.
 #[derive(Clone, Debug, PartialEq)]
 pub struct LongRun {
-    /// Length in time units.
+    /// The horizon asked for, in time units.
     pub periods: f64,
-    /// Steps per time unit; `None` takes the first rung of the ladder whose
-    /// solution has at least 3 digits (truncation error well above rounding,
-    /// so the drift of the method shows), else the finest rung.
+    /// Steps per time unit; `None` chooses from the ladder ([`LongRun::choose`]).
     pub steps_per_unit: Option<u64>,
     /// Most steps in each direction: when `periods` at the chosen resolution
     /// would take more, the run is shortened to the whole number of time
     /// units that fits (at least one). The report gives the length used.
     pub max_steps: u64,
+    /// A recorded long run to repeat as it is (resolution and horizon, the
+    /// horizon still capped by `max_steps`); it takes precedence over
+    /// `steps_per_unit` and the automatic choice. The harness sets it from
+    /// the baseline, so a worse method is measured where the recorded one was.
+    pub repeat: Option<RunAt>,
 }
 
 impl LongRun {
@@ -85,7 +104,7 @@ impl LongRun {
     /// fit `max_steps`.
     ///
     /// ```
-    /// let lr = drift::measure::LongRun { periods: 1000.0, steps_per_unit: None, max_steps: 64_000 };
+    /// let lr = drift::measure::LongRun { periods: 1000.0, max_steps: 64_000, ..Default::default() };
     /// assert_eq!(lr.periods_at(32), 1000.0);
     /// assert_eq!(lr.periods_at(256), 250.0);
     /// assert_eq!(lr.periods_at(1 << 20), 1.0);
@@ -93,6 +112,78 @@ impl LongRun {
     pub fn periods_at(&self, n: u64) -> f64 {
         let fits = (self.max_steps / n.max(1)).max(1) as f64;
         self.periods.min(fits)
+    }
+
+    /// Whether the whole horizon fits `max_steps` at `n` steps per unit.
+    fn fits(&self, n: u64) -> bool {
+        self.periods_at(n) >= self.periods
+    }
+
+    /// Where the long run is made after a ladder whose rungs are `rungs`
+    /// (`fallback` steps per unit when no rung ran at fixed steps):
+    /// `repeat`, else `steps_per_unit`, else the automatic choice. That is
+    /// the coarsest rung with at least [`LONG_RUN_DIGITS`] solution digits
+    /// when the whole horizon fits `max_steps` there; else the finest rung
+    /// at which it fits; else the coarsest rung over a shortened horizon.
+    ///
+    /// The whole horizon comes first because the drift class needs it: a
+    /// method's energy error oscillates within each period and its secular
+    /// part shows only after many periods (Hairer, Lubich and Wanner,
+    /// Geometric Numerical Integration, 2nd ed., ch. IX, where symplectic and
+    /// non-symplectic methods part only over long times). A finer resolution
+    /// would shrink the secular part faster than the oscillation for
+    /// methods whose leading error term conserves energy.
+    ///
+    /// ```
+    /// use drift::measure::{LongRun, Resolution, RunAt, Rung};
+    /// let rung = |n: u64, d: f64| Rung {
+    ///     resolution: Resolution::StepsPerUnit(n), steps: 10 * n, evals: 20 * n, rejected: 0,
+    ///     solution_digits: Some(d), invariant_digits: vec![], diverged_at: None,
+    /// };
+    /// let lr = LongRun { periods: 1000.0, max_steps: 1_000_000, ..Default::default() };
+    /// // 3 digits at 64 steps per unit, and 64 000 steps fit.
+    /// let ladder = [rung(16, 1.8), rung(32, 2.4), rung(64, 3.1), rung(128, 3.7)];
+    /// assert_eq!(lr.choose(&ladder, 64), RunAt { steps_per_unit: 64, periods: 1000.0 });
+    /// // 3 digits only at 2048 steps per unit, which would need 2.048e6 steps:
+    /// // the finest rung that fits the whole horizon instead.
+    /// let slow: Vec<Rung> = (4..=11).map(|k| rung(1 << k, 0.3 * (k - 4) as f64)).collect();
+    /// assert_eq!(lr.choose(&slow, 64), RunAt { steps_per_unit: 512, periods: 1000.0 });
+    /// // Nothing fits: the coarsest rung, shortened.
+    /// let tight = LongRun { max_steps: 8_000, ..lr.clone() };
+    /// assert_eq!(tight.choose(&slow, 64), RunAt { steps_per_unit: 16, periods: 500.0 });
+    /// // A recorded run repeats.
+    /// let again = LongRun { repeat: Some(RunAt { steps_per_unit: 32, periods: 1000.0 }), ..lr };
+    /// assert_eq!(again.choose(&slow, 64), RunAt { steps_per_unit: 32, periods: 1000.0 });
+    /// ```
+    pub fn choose(&self, rungs: &[Rung], fallback: u64) -> RunAt {
+        let at = |n: u64| RunAt {
+            steps_per_unit: n,
+            periods: self.periods_at(n),
+        };
+        if let Some(r) = self.repeat {
+            return RunAt {
+                periods: r.periods.min(self.periods_at(r.steps_per_unit)),
+                ..r
+            };
+        }
+        if let Some(n) = self.steps_per_unit {
+            return at(n);
+        }
+        let fixed: Vec<(u64, Option<f64>)> = rungs
+            .iter()
+            .filter_map(|r| Some((r.resolution.steps_per_unit()?, r.solution_digits)))
+            .collect();
+        let accurate = fixed
+            .iter()
+            .find(|(_, d)| d.is_some_and(|d| d >= LONG_RUN_DIGITS))
+            .map(|&(n, _)| n)
+            .filter(|&n| self.fits(n));
+        let fitting = || fixed.iter().rev().map(|&(n, _)| n).find(|&n| self.fits(n));
+        let n = accurate
+            .or_else(fitting)
+            .or_else(|| fixed.iter().map(|&(n, _)| n).min())
+            .unwrap_or(fallback);
+        at(n)
     }
 }
 
@@ -102,6 +193,7 @@ impl Default for LongRun {
             max_steps: 1_000_000,
             periods: 1000.0,
             steps_per_unit: None,
+            repeat: None,
         }
     }
 }
@@ -120,6 +212,11 @@ pub struct Config {
     pub long_run: Option<LongRun>,
     /// Whether to measure forward-then-backward reversibility.
     pub reversibility: bool,
+    /// Where the reversibility run is made; `None`: at the long run's
+    /// resolution (without a long run, the first rung's) over the ladder's
+    /// horizon. The harness sets it from the baseline, as it sets
+    /// [`LongRun::repeat`].
+    pub reversibility_at: Option<RunAt>,
 }
 
 impl Default for Config {
@@ -130,6 +227,7 @@ impl Default for Config {
             samples_per_unit: 4,
             long_run: Some(LongRun::default()),
             reversibility: true,
+            reversibility_at: None,
         }
     }
 }
@@ -178,6 +276,8 @@ pub struct Measurement {
     /// Digits to which forward-then-backward stepping returns to the initial
     /// state (at the long run's resolution over the ladder's horizon).
     pub reversibility_digits: Option<f64>,
+    /// Where the reversibility run was made, when it was.
+    pub reversibility_run: Option<RunAt>,
     /// Right-hand-side evaluations per accepted step, on the finest rung.
     pub evals_per_step: f64,
     /// A NaN or infinity in the finest rung, the long run or the
@@ -295,30 +395,15 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
     });
 
     let fixed_ladder = !matches!(config.ladder, Ladder::Tolerances(_));
-    let long_n = config.long_run.as_ref().map(|lr| {
-        lr.steps_per_unit.unwrap_or_else(|| {
-            lad.rungs
-                .iter()
-                .find(|r| r.solution_digits.is_some_and(|d| d >= 3.0))
-                .or(lad.rungs.last())
-                .and_then(|r| r.resolution.steps_per_unit())
-                .unwrap_or(config.samples_per_unit * 64)
-        })
-    });
+    let fallback = config.samples_per_unit * 64;
+    let long_at = config
+        .long_run
+        .as_ref()
+        .map(|lr| (lr, lr.choose(&lad.rungs, fallback)));
     let mut long = None;
     let mut invariant_drift = vec![(None, None); problem.invariants().len()];
-    if let (Some(lr), Some(n), true) = (
-        config.long_run.as_ref(),
-        long_n,
-        fixed_ladder && long_run_measures(problem),
-    ) {
-        match long_run::run(
-            method,
-            problem,
-            n,
-            lr.periods_at(n),
-            config.samples_per_unit,
-        ) {
+    if let (Some((lr, at)), true) = (long_at, fixed_ladder && long_run_measures(problem)) {
+        match long_run::run(method, problem, at, lr.periods, config.samples_per_unit) {
             Ok(report) => {
                 if diverged.is_none() {
                     diverged = report.diverged_at.map(|t| Divergence { rung: None, t });
@@ -336,10 +421,20 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
         }
     }
     let mut reversibility_digits = None;
+    let mut reversibility_run = None;
     if config.reversibility && fixed_ladder {
-        let n = long_n.unwrap_or_else(|| lad.rungs[0].resolution.steps_per_unit().unwrap_or(64));
-        match long_run::reversibility(method, problem, n, config.periods) {
-            Ok(Ok(d)) => reversibility_digits = Some(d),
+        let at = config.reversibility_at.unwrap_or_else(|| RunAt {
+            steps_per_unit: long_at.map_or_else(
+                || lad.rungs[0].resolution.steps_per_unit().unwrap_or(64),
+                |(_, at)| at.steps_per_unit,
+            ),
+            periods: config.periods,
+        });
+        match long_run::reversibility(method, problem, at.steps_per_unit, at.periods) {
+            Ok(Ok(d)) => {
+                reversibility_digits = Some(d);
+                reversibility_run = Some(at);
+            }
             Ok(Err(t)) => {
                 diverged.get_or_insert(Divergence { rung: None, t });
             }
@@ -369,6 +464,7 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
         invariants,
         long_run: long,
         reversibility_digits,
+        reversibility_run,
         evals_per_step,
         diverged,
     })
@@ -415,6 +511,14 @@ fn validate<P: Problem + ?Sized>(problem: &P, config: &Config) -> Result<(), Mea
         if let Some(n) = lr.steps_per_unit {
             ladder::grid(n, lr.periods, config.samples_per_unit).map_err(MeasureError::Config)?;
         }
+        if let Some(r) = lr.repeat {
+            ladder::grid(r.steps_per_unit, r.periods, config.samples_per_unit)
+                .map_err(|e| MeasureError::Config(format!("the repeated long run: {e}")))?;
+        }
+    }
+    if let Some(r) = config.reversibility_at {
+        ladder::grid(r.steps_per_unit, r.periods, 1)
+            .map_err(|e| MeasureError::Config(format!("the reversibility run: {e}")))?;
     }
     match &config.ladder {
         Ladder::Steps(steps) => {

@@ -117,6 +117,21 @@ pub struct Spec {
     baseline: PathBuf,
     slack: Slack,
     plans: Vec<Plan>,
+    /// Battery checks the file leaves out (`skip`, a battery off), with why.
+    left_out: BTreeMap<String, String>,
+    /// The registered steppers.
+    steppers: Vec<String>,
+    /// Every problem a check may name.
+    problems: Vec<String>,
+}
+
+/// A check the baseline holds that the file no longer plans, and why.
+#[derive(Clone, Debug, PartialEq, Eq, serde::Serialize)]
+pub struct Unplanned {
+    /// The check's name.
+    pub name: String,
+    /// Why it is not planned, as far as the file and the harness tell.
+    pub reason: String,
 }
 
 impl Spec {
@@ -213,5 +228,52 @@ impl Spec {
     /// ```
     pub fn plans(&self) -> Vec<Plan> {
         self.plans.clone()
+    }
+
+    /// The names among `recorded` (a baseline's checks) that are not
+    /// planned, sorted, each with why: left out by `skip` or by a battery
+    /// that is off (with the line), a stepper or problem no longer
+    /// registered, else no longer declared. Their records are kept; the
+    /// harness reports them after a run.
+    ///
+    /// ```
+    /// use std::path::Path;
+    /// use drift::measure::MethodKind;
+    /// use drift::spec::{Catalog, Spec};
+    /// let catalog = Catalog { steppers: vec![("rk4".into(), MethodKind::Fixed)], user_problems: vec![] };
+    /// let spec = Spec::parse("[stepper.rk4]\nskip = [\"kepler\"]\n", Path::new("drift.toml"), &catalog).unwrap();
+    /// let gone = spec.unplanned(["rk4/harmonic", "rk4/kepler", "euler/kepler"]);
+    /// assert_eq!(gone.len(), 2);
+    /// assert_eq!(gone[0].name, "euler/kepler");
+    /// assert!(gone[0].reason.contains("no stepper `euler`"), "{}", gone[0].reason);
+    /// assert_eq!(gone[1].reason, "left out by `skip` in [stepper.rk4] at drift.toml:2");
+    /// ```
+    pub fn unplanned<'a>(&self, recorded: impl IntoIterator<Item = &'a str>) -> Vec<Unplanned> {
+        let mut out: Vec<Unplanned> = recorded
+            .into_iter()
+            .filter(|name| !self.plans.iter().any(|p| p.name == *name))
+            .map(|name| Unplanned {
+                name: name.to_string(),
+                reason: self.why_unplanned(name),
+            })
+            .collect();
+        out.sort_by(|a, b| a.name.cmp(&b.name));
+        out.dedup();
+        out
+    }
+
+    fn why_unplanned(&self, name: &str) -> String {
+        if let Some(why) = self.left_out.get(name) {
+            return why.clone();
+        }
+        let (stepper, rest) = name.split_once('/').unwrap_or((name, ""));
+        let problem = rest.split_once(':').map_or(rest, |(p, _)| p);
+        if !self.steppers.iter().any(|s| s == stepper) {
+            format!("no stepper `{stepper}` is registered with the harness")
+        } else if !self.problems.iter().any(|p| p == problem) {
+            format!("no problem `{problem}` is built in or registered with the harness")
+        } else {
+            "drift.toml no longer declares it".to_string()
+        }
     }
 }

@@ -188,20 +188,72 @@ pub(super) fn defaults(cat: &Catalog) -> Spec {
         .iter()
         .flat_map(|(name, kind)| battery(&settings, cat, name, *kind, &decl))
         .collect();
-    finish(settings, plans)
+    finish(settings, cat, plans, BTreeMap::new())
 }
 
 /// The spec of `plans` sorted by name. Names are unique by validation,
 /// except when the harness registered one stepper name twice; then the
-/// first registration's plans are kept.
-fn finish(settings: Settings, mut plans: Vec<Plan>) -> Spec {
+/// first registration's plans are kept. `left_out` names the battery checks
+/// the file leaves out, with why.
+fn finish(
+    settings: Settings,
+    cat: &Catalog,
+    mut plans: Vec<Plan>,
+    left_out: BTreeMap<String, String>,
+) -> Spec {
     plans.sort_by(|a, b| a.name.cmp(&b.name));
     plans.dedup_by(|a, b| a.name == b.name);
     Spec {
         baseline: settings.baseline,
         slack: settings.slack,
         plans,
+        left_out,
+        steppers: cat.steppers.iter().map(|(n, _)| n.clone()).collect(),
+        problems: problem_names(cat).into_iter().map(String::from).collect(),
     }
+}
+
+/// Why the battery checks of `stepper` that the file leaves out are not
+/// planned: each problem in `skip` (the battery on), or the whole battery
+/// (off). Names only; a name the baseline does not hold is never asked for.
+fn left_out_of(
+    loc: &Locator,
+    settings: &Settings,
+    cat: &Catalog,
+    (stepper, kind): (&str, MethodKind),
+    decl: &StepperDecl,
+    on: bool,
+) -> Vec<(String, String)> {
+    let file = loc.path.display();
+    if on {
+        return decl
+            .skip
+            .iter()
+            .map(|s| {
+                (
+                    format!("{stepper}/{}", s.get_ref()),
+                    format!(
+                        "left out by `skip` in [stepper.{stepper}] at {file}:{}",
+                        loc.line(s.span().start)
+                    ),
+                )
+            })
+            .collect();
+    }
+    let why = match &decl.battery {
+        Some(b) => format!(
+            "the battery of `{stepper}` is off (`battery = false` at {file}:{})",
+            loc.line(b.span().start)
+        ),
+        None => format!(
+            "the battery of `{stepper}` is off: it has `[[check]]` tables and no `battery = true`"
+        ),
+    };
+    let all = StepperDecl::default();
+    battery(settings, cat, stepper, kind, &all)
+        .into_iter()
+        .map(|p| (p.name, why.clone()))
+        .collect()
 }
 
 /// Parses and validates a whole file.
@@ -242,10 +294,20 @@ pub(super) fn parse(text: &str, path: &Path, cat: &Catalog) -> Result<Spec, Spec
 
     let empty = StepperDecl::default();
     let mut plans: Vec<Plan> = Vec::new();
+    let mut left_out = BTreeMap::new();
     for (stepper, kind) in &cat.steppers {
         let decl = decls.get(stepper).unwrap_or(&empty);
         let has_checks = declared.iter().any(|d| &d.plan.stepper == stepper);
-        if !battery_on(decl, has_checks) {
+        let on = battery_on(decl, has_checks);
+        left_out.extend(left_out_of(
+            &loc,
+            &settings,
+            cat,
+            (stepper, *kind),
+            decl,
+            on,
+        ));
+        if !on {
             if let Some(span) = &decl.skip_span {
                 return Err(loc.at(
                     span,
@@ -281,7 +343,12 @@ pub(super) fn parse(text: &str, path: &Path, cat: &Catalog) -> Result<Spec, Spec
     for plan in &plans {
         measurable(&loc, decls.get(&plan.stepper).unwrap_or(&empty), plan)?;
     }
-    Ok(finish(settings, plans))
+    // A declared check may take a name the battery leaves out (a tagless
+    // check of a skipped problem): it is planned after all.
+    for plan in &plans {
+        left_out.remove(&plan.name);
+    }
+    Ok(finish(settings, cat, plans, left_out))
 }
 
 /// Checks that the configuration of `plan` measures what its claims need:

@@ -87,8 +87,10 @@ impl Settings {
                 periods: self.long_periods,
                 steps_per_unit: None,
                 max_steps: (budget / 4).max(1),
+                repeat: None,
             }),
             reversibility: self.reversibility,
+            reversibility_at: None,
         }
     }
 
