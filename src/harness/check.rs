@@ -49,13 +49,19 @@ pub struct CheckOutcome {
 }
 
 /// The ladder a check runs: the baseline's stored ladder when the plan's is
-/// automatic, so every later run repeats exactly the recorded rungs.
+/// automatic, so every later run repeats exactly the recorded rungs (an
+/// automatic tolerance ladder may have recorded steps: the integrator
+/// supported fixed steps only).
 fn ladder_for(plan: &Plan, recorded: Option<&CheckRecord>) -> Config {
     let mut config = plan.config.clone();
-    if let (Ladder::Auto { .. }, Some(LadderRecord::Steps(steps))) =
-        (&config.ladder, recorded.map(|r| &r.ladder))
-    {
-        config.ladder = Ladder::Steps(steps.clone());
+    match (&config.ladder, recorded.map(|r| &r.ladder)) {
+        (Ladder::Auto { .. } | Ladder::AutoTolerances { .. }, Some(LadderRecord::Steps(steps))) => {
+            config.ladder = Ladder::Steps(steps.clone());
+        }
+        (Ladder::AutoTolerances { .. }, Some(LadderRecord::Tolerances(tols))) => {
+            config.ladder = Ladder::Tolerances(tols.clone());
+        }
+        _ => {}
     }
     config
 }
