@@ -8,6 +8,7 @@ mod common;
 
 use std::cell::Cell;
 
+use common::dop853::*;
 use common::steppers::*;
 use drift::{Accel, Control, IntegrateError, Integrator, Rhs, SplitStepper, Stepper};
 
@@ -169,6 +170,157 @@ fn dormand_prince_embedded_weights_are_fourth_order_exactly() {
     // (Dormand and Prince 1980).
     assert_eq!(t.a[6], t.b);
     assert_eq!(t.c[6], 1.0);
+}
+
+// ---------------------------------------------------------------------------
+// Order conditions from rooted trees (Butcher; Hairer, Norsett and Wanner I,
+// II.2, Theorem 2.13): a method has order p when sum_i b_i Phi_i(t) =
+// 1/gamma(t) for every rooted tree t with at most p vertices.
+
+/// A rooted tree as the sorted list of its root's subtrees (canonical, so
+/// equal trees compare equal).
+#[derive(Clone, PartialEq, Eq, PartialOrd, Ord, Debug)]
+struct Tree(Vec<Tree>);
+
+impl Tree {
+    fn order(&self) -> usize {
+        1 + self.0.iter().map(Tree::order).sum::<usize>()
+    }
+
+    /// gamma(t) = |t| prod gamma(t_k) (HNW I, II.2, Definition 2.10).
+    fn density(&self) -> f64 {
+        self.order() as f64 * self.0.iter().map(Tree::density).product::<f64>()
+    }
+
+    /// Every tree made by attaching one new leaf to a vertex of this one.
+    fn grown(&self) -> Vec<Tree> {
+        let mut out = Vec::new();
+        let mut with_leaf = self.0.clone();
+        with_leaf.push(Tree(Vec::new()));
+        with_leaf.sort();
+        out.push(Tree(with_leaf));
+        for (k, child) in self.0.iter().enumerate() {
+            for g in child.grown() {
+                let mut children = self.0.clone();
+                children[k] = g;
+                children.sort();
+                out.push(Tree(children));
+            }
+        }
+        out
+    }
+
+    /// The elementary weights Phi_i(t) = prod_k (A Phi(t_k))_i, with
+    /// Phi(leaf) = 1 (HNW I, II.2, Definition 2.9).
+    fn weights<const S: usize>(&self, a: &[[f64; S]; S]) -> [f64; S] {
+        let mut phi = [1.0; S];
+        for child in &self.0 {
+            let p = child.weights(a);
+            for (i, x) in phi.iter_mut().enumerate() {
+                *x *= (0..S).map(|j| a[i][j] * p[j]).sum::<f64>();
+            }
+        }
+        phi
+    }
+}
+
+/// All rooted trees with 1 to `max` vertices, by order.
+fn trees_by_order(max: usize) -> Vec<Vec<Tree>> {
+    let mut levels = vec![vec![Tree(Vec::new())]];
+    while levels.len() < max {
+        let mut next: Vec<Tree> = levels
+            .last()
+            .unwrap()
+            .iter()
+            .flat_map(Tree::grown)
+            .collect();
+        next.sort();
+        next.dedup();
+        levels.push(next);
+    }
+    levels
+}
+
+/// Residual `sum b Phi(t) - 1/gamma(t)` of each tree.
+fn tree_residuals<const S: usize>(a: &[[f64; S]; S], b: &[f64; S], trees: &[Tree]) -> Vec<f64> {
+    trees
+        .iter()
+        .map(|t| {
+            let phi = t.weights(a);
+            (0..S).map(|i| b[i] * phi[i]).sum::<f64>() - 1.0 / t.density()
+        })
+        .collect()
+}
+
+/// Number of trees up to order `p` whose condition fails by more than
+/// [`COND_TOL`].
+fn failed_trees<const S: usize>(
+    a: &[[f64; S]; S],
+    b: &[f64; S],
+    levels: &[Vec<Tree>],
+    p: usize,
+) -> usize {
+    levels[..p]
+        .iter()
+        .flat_map(|l| tree_residuals(a, b, l))
+        .filter(|r| r.abs() > COND_TOL)
+        .count()
+}
+
+#[test]
+fn rooted_trees_are_counted_as_published() {
+    // Number of rooted trees with n vertices (Cayley; OEIS A000081, from
+    // memory): 1, 1, 2, 4, 9, 20, 48, 115, 286.
+    let levels = trees_by_order(9);
+    let counts: Vec<usize> = levels.iter().map(Vec::len).collect();
+    assert_eq!(counts, [1, 1, 2, 4, 9, 20, 48, 115, 286]);
+    // 200 conditions for order 8 (HNW I, II.2, Table 2.3, number of
+    // conditions up to each order: 1, 2, 4, 8, 17, 37, 85, 200; from memory).
+    assert_eq!(counts[..8].iter().sum::<usize>(), 200);
+    // The generator agrees with the hand-written conditions of Table 2.2:
+    // classical RK4 passes every tree to order 4 and fails one of order 5;
+    // Dormand-Prince 5(4) passes every tree to order 5.
+    let rk4 = Rk4Tableau::TABLEAU;
+    assert_eq!(failed_trees(&rk4.a, &rk4.b, &levels, 4), 0);
+    assert!(failed_trees(&rk4.a, &rk4.b, &levels, 5) > 0);
+    let dp = DormandPrinceTableau::TABLEAU;
+    assert_eq!(failed_trees(&dp.a, &dp.b, &levels, 5), 0);
+    assert!(failed_trees(&dp.a, &DORMAND_PRINCE_B_HAT, &levels, 5) > 0);
+}
+
+#[test]
+fn dop853_coefficients_satisfy_the_order_conditions() {
+    // HNW I, II.10 (DOP853): 8th-order weights b, 5th-order embedded
+    // weights b - e5 and 3rd-order weights bhh on 12 explicit stages with
+    // c_i = sum_j a_ij.
+    let t = Dop853Tableau::TABLEAU;
+    assert!(is_explicit(&t));
+    assert_eq!(bad_row_sums(&t), Vec::<usize>::new(), "c_i != sum_j a_ij");
+    let levels = trees_by_order(9);
+    assert_eq!(failed_trees(&t.a, &t.b, &levels, 8), 0, "order 8");
+    // Not order 9: some order-9 condition fails far beyond rounding (the
+    // check above would otherwise bound nothing).
+    let worst9 = tree_residuals(&t.a, &t.b, &levels[8])
+        .into_iter()
+        .fold(0.0, |m: f64, r| m.max(r.abs()));
+    assert!(worst9 > 1e3 * COND_TOL, "order 9 holds to {worst9:e}");
+    // And the check notices a coefficient wrong in its 10th digit.
+    let mut wrong = t.a;
+    wrong[11][10] *= 1.0 + 1e-9;
+    assert!(failed_trees(&wrong, &t.b, &levels, 8) > 0);
+    assert_eq!(failed_trees(&t.a, &DOP853_B5, &levels, 5), 0, "b5 order 5");
+    assert!(
+        failed_trees(&t.a, &DOP853_B5, &levels, 6) > 0,
+        "b5 is order 6"
+    );
+    assert_eq!(failed_trees(&t.a, &DOP853_B3, &levels, 3), 0, "bhh order 3");
+    assert!(
+        failed_trees(&t.a, &DOP853_B3, &levels, 4) > 0,
+        "bhh is order 4"
+    );
+    // bhh uses stages 1, 9 and 12 only (the DOP853 code).
+    let used: Vec<usize> = (0..12).filter(|&i| DOP853_B3[i] != 0.0).collect();
+    assert_eq!(used, [0, 8, 11]);
 }
 
 #[test]
@@ -480,15 +632,44 @@ impl<F: Rhs> Rhs for Recording<F> {
     }
 }
 
-#[test]
-fn dormand_prince_meets_tolerance_and_lands_on_t1() {
+/// Evaluations an embedded pair spends on a call, from its counts: the
+/// first `k_1`, the starting-step guess (adaptive calls only), the new
+/// stages of every attempt, and an evaluation per accepted step where the
+/// pair does not reuse its last stage (DOP853's 13th evaluation).
+#[derive(Clone, Copy)]
+struct Cost {
+    per_attempt: u64,
+    per_accepted: u64,
+}
+
+/// Dormand-Prince 5(4) with FSAL: 6 new stages per attempt, nothing more on
+/// acceptance (Dormand and Prince 1980).
+const DP5_COST: Cost = Cost {
+    per_attempt: 6,
+    per_accepted: 0,
+};
+
+/// DOP853: 11 new stages per attempt, `f(t + h, y_new)` after acceptance
+/// (HNW I, II.10, the code DOP853).
+const DOP853_COST: Cost = Cost {
+    per_attempt: 11,
+    per_accepted: 1,
+};
+
+impl Cost {
+    fn adaptive(self, c: drift::Counts) -> u64 {
+        2 + self.per_attempt * (c.steps + c.rejected) + self.per_accepted * c.steps
+    }
+}
+
+fn meets_tolerance_and_lands_on_t1<P: EmbeddedPair>(cost: Cost) {
     let f = Recording::new(Growth);
     let mut y = [1.0];
     let tol = Control::Tolerance {
         rtol: 1e-10,
         atol: 1e-10,
     };
-    let counts = DormandPrince::default()
+    let counts = Adaptive::<P>::default()
         .integrate(&f, 0.0, 1.0, &mut y, tol)
         .unwrap();
     // True error against e: common practice (no source) is that the global
@@ -496,16 +677,20 @@ fn dormand_prince_meets_tolerance_and_lands_on_t1() {
     // 10 times the requested local tolerance; here |y - e| / e <= 1e-9.
     let err = (y[0] - 1f64.exp()).abs() / 1f64.exp();
     assert!(err <= 1e-9, "relative error {err:e}");
-    assert!(counts.steps > 10 && counts.steps < 200, "{counts:?}");
-    // No stage is evaluated beyond t1, and the last evaluation (FSAL, at the
-    // end of the last step) is exactly at t1.
+    assert!(counts.steps > 2 && counts.steps < 200, "{counts:?}");
+    // No stage is evaluated beyond t1, and the last evaluation (FSAL, or
+    // the new point of DOP853) is exactly at t1.
     assert_eq!(f.times.get(), (0.0, 1.0));
-    // FSAL cost: 1 for k1, 1 for the starting-step guess, 6 per attempt.
-    assert_eq!(f.evals.get(), 2 + 6 * (counts.steps + counts.rejected));
+    assert_eq!(f.evals.get(), cost.adaptive(counts));
 }
 
 #[test]
-fn dormand_prince_lands_on_an_awkward_end_and_runs_backward() {
+fn embedded_pairs_meet_tolerance_and_land_on_t1() {
+    meets_tolerance_and_lands_on_t1::<Dp5Pair>(DP5_COST);
+    meets_tolerance_and_lands_on_t1::<Dop853Pair>(DOP853_COST);
+}
+
+fn lands_on_an_awkward_end_and_runs_backward<P: EmbeddedPair>() {
     // t1 = 0.3 is not a binary fraction; the last step is shortened so that
     // t reaches it exactly.
     let f = Recording::new(CosGrowth);
@@ -514,7 +699,7 @@ fn dormand_prince_lands_on_an_awkward_end_and_runs_backward() {
         rtol: 1e-8,
         atol: 1e-8,
     };
-    DormandPrince::default()
+    Adaptive::<P>::default()
         .integrate(&f, 0.0, 0.3, &mut y, tol)
         .unwrap();
     assert_eq!(f.times.get(), (0.0, 0.3));
@@ -522,7 +707,7 @@ fn dormand_prince_lands_on_an_awkward_end_and_runs_backward() {
     // Backward from t = 1 (y = e) to 0 (y = 1).
     let f = Recording::new(Growth);
     let mut y = [1f64.exp()];
-    let counts = DormandPrince::default()
+    let counts = Adaptive::<P>::default()
         .integrate(&f, 1.0, 0.0, &mut y, tol)
         .unwrap();
     assert_eq!(f.times.get(), (0.0, 1.0));
@@ -530,12 +715,17 @@ fn dormand_prince_lands_on_an_awkward_end_and_runs_backward() {
 }
 
 #[test]
-fn dormand_prince_counts_rejected_steps() {
+fn embedded_pairs_land_on_an_awkward_end_and_run_backward() {
+    lands_on_an_awkward_end_and_runs_backward::<Dp5Pair>();
+    lands_on_an_awkward_end_and_runs_backward::<Dop853Pair>();
+}
+
+fn counts_rejected_steps<P: EmbeddedPair>(cost: Cost) {
     // A mildly stiff relaxation y' = -50 (y - cos t): over a long interval
     // the controller runs into the explicit stability bound (about
-    // h = 3.3/50 for Dormand-Prince, from memory; HNW II, IV.2) and must
-    // reject steps. The counts report them, and the answer still meets a
-    // loose bound.
+    // h = 3.3/50 for Dormand-Prince 5(4), from memory; HNW II, IV.2; DOP853's
+    // is of the same size) and must reject steps. The counts report them,
+    // and the answer still meets a loose bound.
     struct Relax;
     impl Rhs for Relax {
         fn dim(&self) -> usize {
@@ -545,15 +735,17 @@ fn dormand_prince_counts_rejected_steps() {
             dydt[0] = -50.0 * (y[0] - t.cos());
         }
     }
+    let f = Recording::new(Relax);
     let mut y = [0.0];
     let tol = Control::Tolerance {
         rtol: 1e-6,
         atol: 1e-6,
     };
-    let counts = DormandPrince::default()
-        .integrate(&Relax, 0.0, 10.0, &mut y, tol)
+    let counts = Adaptive::<P>::default()
+        .integrate(&f, 0.0, 10.0, &mut y, tol)
         .unwrap();
     assert!(counts.rejected > 0, "{counts:?}");
+    assert_eq!(f.evals.get(), cost.adaptive(counts));
     // Exact solution of y' = -k (y - cos t), y(0) = 0 (linear first-order
     // ODE, integrating factor): y = k (k cos t + sin t - k e^{-k t}) / (k^2 + 1).
     let k = 50.0f64;
@@ -562,35 +754,62 @@ fn dormand_prince_counts_rejected_steps() {
 }
 
 #[test]
+fn embedded_pairs_count_rejected_steps() {
+    counts_rejected_steps::<Dp5Pair>(DP5_COST);
+    counts_rejected_steps::<Dop853Pair>(DOP853_COST);
+}
+
+/// Error of `n` equal steps (`Control::Steps`) on y' = cos(t) y over
+/// [0, 2], checking the counts and the evaluations (no starting-step guess).
+fn fixed_step_error<P: EmbeddedPair>(cost: Cost, n: u64) -> f64 {
+    let f = Recording::new(CosGrowth);
+    let mut y = [1.0];
+    let counts = Adaptive::<P>::default()
+        .integrate(&f, 0.0, 2.0, &mut y, Control::Steps(n))
+        .unwrap();
+    assert_eq!((counts.steps, counts.rejected), (n, 0));
+    assert_eq!(
+        f.evals.get(),
+        1 + (cost.per_attempt + cost.per_accepted) * n
+    );
+    assert_eq!(f.times.get().1, 2.0);
+    (y[0] - 2f64.sin().exp()).abs()
+}
+
+#[test]
 fn dormand_prince_fixed_steps_are_fifth_order() {
     // Control::Steps(n) uses the 5th-order weights (Dormand and Prince
     // 1980): the error ratio is about 2^5 = 32 when n doubles.
-    let err = |n: u64| {
-        let f = Recording::new(CosGrowth);
-        let mut y = [1.0];
-        let counts = DormandPrince::default()
-            .integrate(&f, 0.0, 2.0, &mut y, Control::Steps(n))
-            .unwrap();
-        assert_eq!((counts.steps, counts.rejected), (n, 0));
-        // FSAL: 1 evaluation for k1, then 6 per step; the last one at t1.
-        assert_eq!(f.evals.get(), 1 + 6 * n);
-        assert_eq!(f.times.get().1, 2.0);
-        (y[0] - 2f64.sin().exp()).abs()
-    };
+    let err = |n| fixed_step_error::<Dp5Pair>(DP5_COST, n);
     let (e16, e32, e64) = (err(16), err(32), err(64));
     assert_order("Dormand-Prince, Steps 16 -> 32", e16 / e32, 5);
     assert_order("Dormand-Prince, Steps 32 -> 64", e32 / e64, 5);
 }
 
 #[test]
-fn dormand_prince_fails_with_the_time_reached() {
+fn dop853_fixed_steps_are_eighth_order() {
+    // HNW I, II.10: the propagated solution of DOP853 has order 8. On the
+    // non-autonomous y' = cos(t) y (so a wrong node would show) the
+    // observed order log2(e(n) / e(2n)) is 8 within 0.3 (the band of the
+    // brief; common practice, no source) while the error is far above
+    // roundoff (checked: above 1e-13).
+    let err = |n| fixed_step_error::<Dop853Pair>(DOP853_COST, n);
+    let e: Vec<f64> = [4, 8, 16].into_iter().map(err).collect();
+    for w in e.windows(2) {
+        assert!(w[1] > 1e-13, "at roundoff already: {e:?}");
+        let p = (w[0] / w[1]).log2();
+        assert!((p - 8.0).abs() < 0.3, "observed order {p} from {e:?}");
+    }
+}
+
+fn fails_with_the_time_reached<P: EmbeddedPair>() {
     // Too few step attempts allowed: Failed, at a time inside (t0, t1).
     let mut y = [1.0];
     let tol = Control::Tolerance {
         rtol: 1e-12,
         atol: 1e-12,
     };
-    match DormandPrince::with_max_steps(5).integrate(&Growth, 0.0, 1.0, &mut y, tol) {
+    match Adaptive::<P>::with_max_steps(2).integrate(&Growth, 0.0, 1.0, &mut y, tol) {
         Err(IntegrateError::Failed { t, .. }) => assert!(t > 0.0 && t < 1.0, "{t}"),
         other => panic!("expected Failed, got {other:?}"),
     }
@@ -610,7 +829,7 @@ fn dormand_prince_fails_with_the_time_reached() {
         rtol: 1e-8,
         atol: 1e-8,
     };
-    match DormandPrince::default().integrate(&Blowup, 0.0, 2.0, &mut y, tol) {
+    match Adaptive::<P>::default().integrate(&Blowup, 0.0, 2.0, &mut y, tol) {
         Err(IntegrateError::Failed { t, reason }) => {
             // The numerical blow-up sits within the tolerance of t = 1.
             assert!((t - 1.0).abs() < 1e-6, "failed at {t}: {reason}")
@@ -620,13 +839,24 @@ fn dormand_prince_fails_with_the_time_reached() {
 }
 
 #[test]
-fn dormand_prince_refuses_meaningless_tolerances() {
+fn embedded_pairs_fail_with_the_time_reached() {
+    fails_with_the_time_reached::<Dp5Pair>();
+    fails_with_the_time_reached::<Dop853Pair>();
+}
+
+fn refuses_meaningless_tolerances<P: EmbeddedPair>() {
     let mut y = [1.0];
     let bad = Control::Tolerance {
         rtol: 0.0,
         atol: 0.0,
     };
-    let r = DormandPrince::default().integrate(&Growth, 0.0, 1.0, &mut y, bad);
+    let r = Adaptive::<P>::default().integrate(&Growth, 0.0, 1.0, &mut y, bad);
     assert_eq!(r, Err(IntegrateError::Unsupported(bad)));
     assert_eq!(y[0], 1.0);
+}
+
+#[test]
+fn embedded_pairs_refuse_meaningless_tolerances() {
+    refuses_meaningless_tolerances::<Dp5Pair>();
+    refuses_meaningless_tolerances::<Dop853Pair>();
 }

@@ -1,7 +1,10 @@
 //! Helpers shared by the integration tests: checks that a problem's exact
 //! solution and invariants are consistent with its own right-hand side.
 #![allow(dead_code)] // each test binary uses a different subset
+pub mod adaptive;
+pub mod dop853;
 pub mod fixture;
+pub mod rewrites;
 pub mod steppers;
 
 use drift::Problem;
