@@ -30,8 +30,9 @@ pub const TOL_FINEST_EXPONENT: i32 = 15;
 /// pair within about 0.25. Common practice, no source.
 pub const STEADY_BAND: f64 = 0.05;
 
-/// Least span of the regime in decades of tolerance: two decade slopes to
-/// compare. Common practice, no source.
+/// Least span of the regime, and of the order fit inside it, in decades of
+/// tolerance: two decade slopes to compare, and five rungs of the automatic
+/// ladder for the fit. Common practice, no source.
 pub const MIN_REGIME_DECADES: f64 = 2.0;
 
 /// The tolerances of the automatic ladder, coarse to fine, about half a
@@ -86,8 +87,8 @@ pub enum NoOrder {
         /// Finest tolerance run.
         finest: f64,
     },
-    /// The regime has fewer than two rungs the fit can use (under one
-    /// digit, or at the roundoff floor).
+    /// The fit inside the regime (rungs between one digit and the roundoff
+    /// floor) spans fewer than [`MIN_REGIME_DECADES`] decades of tolerance.
     RegimeUnresolved {
         /// First rung of the regime.
         start: usize,
@@ -107,7 +108,7 @@ impl std::fmt::Display for NoOrder {
             ),
             NoOrder::RegimeUnresolved { start } => write!(
                 f,
-                "the controller's asymptotic regime (from rung {start}) has fewer than two rungs between one digit and the roundoff floor"
+                "inside the controller's asymptotic regime (from rung {start}) the rungs between one digit and the roundoff floor span fewer than {MIN_REGIME_DECADES} decades of tolerance"
             ),
         }
     }

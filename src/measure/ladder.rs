@@ -7,6 +7,7 @@
 
 use crate::measure::adaptive::{
     auto_tolerances, proportionality, work_regime, AdaptiveReport, LadderStop, NoOrder,
+    MIN_REGIME_DECADES,
 };
 use crate::measure::method::{advance_checked, Counted, Method};
 use crate::measure::{Config, Ladder, MeasureError};
@@ -405,6 +406,18 @@ fn tolerances_done<P: Problem + ?Sized>(
         .map(|_| LadderStop::Floor)
 }
 
+/// Whether the order fit of a tolerance ladder spans at least
+/// [`MIN_REGIME_DECADES`] decades of tolerance (always true on fixed steps).
+fn fit_spans_regime(raw: &[RawRung], a: &SeriesAnalysis) -> bool {
+    let Some(f) = a.fit else { return true };
+    match (raw[f.first].rung.resolution, raw[f.last].rung.resolution) {
+        (Resolution::Tolerance(a), Resolution::Tolerance(b)) => {
+            b > 0.0 && a / b >= 10f64.powf(MIN_REGIME_DECADES) * (1.0 - 1e-9)
+        }
+        _ => true,
+    }
+}
+
 fn basis_of(first: &RawRung) -> Basis {
     if first.exact_error.is_some() {
         Basis::Exact
@@ -616,9 +629,14 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
         .first()
         .ok_or_else(|| MeasureError::Config("the ladder ran no rung".into()))?;
     let basis = basis_of(first);
-    let start = fit_start(&raw);
     let d = solution_digits(problem, &raw, basis);
-    let solution = analyse(&raw, &d, start);
+    let mut start = fit_start(&raw);
+    let mut solution = analyse(&raw, &d, start);
+    if !fit_spans_regime(&raw, &solution) {
+        // Too short a fit to be an order: nothing is fitted.
+        start = raw.len();
+        solution = analyse(&raw, &d, start);
+    }
     let invariant_analyses = (0..problem.invariants().len())
         .map(|k| {
             let dk: Vec<Option<f64>> = raw
