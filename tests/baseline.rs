@@ -95,6 +95,7 @@ fn measurement() -> Measurement {
         reversibility_digits: Some(14.0),
         evals_per_step: 4.0,
         diverged: None,
+        adaptive: None,
     }
 }
 
@@ -141,6 +142,7 @@ fn tolerance_measurement() -> Measurement {
         reversibility_digits: None,
         evals_per_step: 7.0,
         diverged: None,
+        adaptive: None,
     }
 }
 
