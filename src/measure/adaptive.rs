@@ -180,7 +180,8 @@ pub fn work_regime(tols: &[f64], evals: &[u64]) -> Result<WorkRegime, NoOrder> {
         (Some(a), Some(b)) => b - a,
         _ => 0.0,
     };
-    if !(span >= MIN_REGIME_DECADES - 1e-9) {
+    // A NaN span (impossible after work_axes) counts as too short.
+    if span.is_nan() || span < MIN_REGIME_DECADES - 1e-9 {
         return Err(NoOrder::LadderTooShort {
             decades: span.max(0.0),
         });
