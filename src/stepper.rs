@@ -148,6 +148,25 @@ pub enum Control {
     },
 }
 
+impl std::fmt::Display for Control {
+    /// `fixed steps (n = 64)`, `tolerances (rtol = 1e-4, atol = 1e-4)`.
+    ///
+    /// ```
+    /// use drift::Control;
+    /// assert_eq!(Control::Steps(64).to_string(), "fixed steps (n = 64)");
+    /// let c = Control::Tolerance { rtol: 1e-4, atol: 1e-4 };
+    /// assert_eq!(c.to_string(), "tolerances (rtol = 1e-4, atol = 1e-4)");
+    /// ```
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Control::Steps(n) => write!(f, "fixed steps (n = {n})"),
+            Control::Tolerance { rtol, atol } => {
+                write!(f, "tolerances (rtol = {rtol:e}, atol = {atol:e})")
+            }
+        }
+    }
+}
+
 /// What an [`Integrator`] reports about one call.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Counts {
@@ -189,7 +208,7 @@ pub enum IntegrateError {
 impl std::fmt::Display for IntegrateError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            IntegrateError::Unsupported(c) => write!(f, "integrator does not support {c:?}"),
+            IntegrateError::Unsupported(c) => write!(f, "integrator does not support {c}"),
             IntegrateError::Failed { t, reason } => {
                 write!(f, "integrator failed at t = {t}: {reason}")
             }

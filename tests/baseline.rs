@@ -105,6 +105,7 @@ fn measurement() -> Measurement {
         }),
         evals_per_step: 4.0,
         diverged: None,
+        adaptive: None,
     }
 }
 
@@ -156,6 +157,7 @@ fn tolerance_measurement() -> Measurement {
         reversibility_run: None,
         evals_per_step: 7.0,
         diverged: None,
+        adaptive: None,
     }
 }
 

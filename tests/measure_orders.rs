@@ -5,6 +5,7 @@
 //! reference problem, the non-autonomous driven oscillator included.
 //!
 //! Run with `--nocapture` to see the table of measured orders and floors.
+//! Adaptive orders on tolerance ladders are in `tests/measure_adaptive.rs`.
 
 mod common;
 
@@ -21,8 +22,6 @@ use drift::Problem;
 /// Fixed-step orders must come out within this of the published order
 /// (the tolerance the project promises; issue text).
 const FIXED_BAND: f64 = 0.05;
-/// Adaptive order against evaluations.
-const ADAPTIVE_BAND: f64 = 0.3;
 
 fn problems_all() -> Vec<Box<dyn Problem>> {
     vec![
@@ -220,33 +219,6 @@ fn split_stepper_orders_on_every_second_order_problem() {
         &[],
     );
     misses.extend(tj);
-    assert_none_missed(&misses);
-}
-
-/// On Lotka-Volterra the order of Dormand-Prince against evaluations reads
-/// 5.5 to 7.5 (measured, horizon 10 and 2 periods): the error falls faster than
-/// the tolerance there, so the tolerance-to-work relation is still
-/// pre-asymptotic at 1e-13. It is measured by self-convergence and kept out
-/// of the band test; every problem with an exact solution is in it.
-#[test]
-fn dormand_prince_order_against_evaluations() {
-    let exact: Vec<Box<dyn Problem>> = problems_all()
-        .into_iter()
-        .filter(|p| p.name() != "lotka_volterra")
-        .collect();
-    let cfg = Config {
-        ladder: Ladder::default_tolerances(),
-        ..config(0)
-    };
-    let misses = sweep(
-        "dopri5",
-        || Whole(DormandPrince::default()),
-        5.0,
-        ADAPTIVE_BAND,
-        &exact,
-        &cfg,
-        &[],
-    );
     assert_none_missed(&misses);
 }
 

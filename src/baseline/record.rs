@@ -199,7 +199,7 @@ impl CheckRecord {
     ///     problem: "harmonic".into(), kind: MethodKind::Fixed, basis: Basis::Exact,
     ///     solution: analyse_series(&x, &d, &[160, 320, 640]), rungs,
     ///     invariants: vec![], long_run: None, reversibility_digits: None,
-    ///     reversibility_run: None, evals_per_step: 4.0, diverged: None,
+    ///     reversibility_run: None, evals_per_step: 4.0, diverged: None, adaptive: None,
     /// };
     /// let r = CheckRecord::from_measurement(&m);
     /// assert_eq!(r.ladder, LadderRecord::Steps(vec![16, 32, 64]));

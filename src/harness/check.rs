@@ -52,7 +52,9 @@ pub struct CheckOutcome {
 /// stored repeated where the plan leaves the choice to the tool, so every
 /// later run repeats exactly the recorded rungs (an automatic ladder), the
 /// recorded long run (an automatic long run over the same asked horizon)
-/// and the recorded reversibility run (over the same ladder horizon).
+/// and the recorded reversibility run (over the same ladder horizon). An
+/// automatic tolerance ladder may have recorded steps: the integrator
+/// supported fixed steps only.
 ///
 /// ```
 /// use drift::baseline::CheckRecord;
@@ -78,8 +80,14 @@ pub fn ladder_for(plan: &Plan, recorded: Option<&CheckRecord>) -> Config {
     let Some(recorded) = recorded else {
         return config;
     };
-    if let (Ladder::Auto { .. }, LadderRecord::Steps(steps)) = (&config.ladder, &recorded.ladder) {
-        config.ladder = Ladder::Steps(steps.clone());
+    match (&config.ladder, &recorded.ladder) {
+        (Ladder::Auto { .. } | Ladder::AutoTolerances { .. }, LadderRecord::Steps(steps)) => {
+            config.ladder = Ladder::Steps(steps.clone());
+        }
+        (Ladder::AutoTolerances { .. }, LadderRecord::Tolerances(tols)) => {
+            config.ladder = Ladder::Tolerances(tols.clone());
+        }
+        _ => {}
     }
     if let (Some(lr), Some(at)) = (config.long_run.as_mut(), recorded.runs.long_run) {
         if lr.steps_per_unit.is_none() && recorded.runs.long_run_asked() == Some(lr.periods) {

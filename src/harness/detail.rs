@@ -78,7 +78,7 @@ impl Detail {
     /// let m = Measurement { problem: "harmonic".into(), kind: MethodKind::Fixed,
     ///     basis: Basis::Exact, solution: analyse_series(&[1.2], &[Some(2.0)], &[32]),
     ///     rungs: vec![rung], invariants: vec![], long_run: None,
-    ///     reversibility_digits: None, reversibility_run: None, evals_per_step: 4.0, diverged: None };
+    ///     reversibility_digits: None, reversibility_run: None, evals_per_step: 4.0, diverged: None, adaptive: None };
     /// let d = Detail::of(&m, 2.0, 6.283185307179586, true);
     /// assert_eq!(d.rungs[0].steps_per_unit, Some(16));
     /// assert_eq!(d.rungs[0].evals, 128);

@@ -202,23 +202,34 @@ pub fn plan_document(plans: &[Plan], baseline: Option<&Baseline>, baseline_path:
         .map(|p| {
             let recorded = baseline.and_then(|b| b.checks.get(&p.name));
             let ladder = match (&p.config.ladder, recorded.map(|r| &r.ladder)) {
-                (Ladder::Auto { .. }, Some(LadderRecord::Steps(s))) => {
-                    describe_steps("recorded", s)
+                (
+                    Ladder::Auto { .. } | Ladder::AutoTolerances { .. },
+                    Some(LadderRecord::Steps(s)),
+                ) => describe_steps("recorded", s),
+                (Ladder::AutoTolerances { .. }, Some(LadderRecord::Tolerances(t))) => {
+                    describe_tolerances("recorded", t)
+                }
+                (Ladder::AutoTolerances { .. }, None) => {
+                    "automatic tolerances from 1e-2".to_string()
                 }
                 (Ladder::Auto { start, .. }, _) => {
                     format!("automatic from {start} steps per period")
                 }
                 (Ladder::Steps(s), _) => describe_steps("fixed", s),
-                (Ladder::Tolerances(t), _) => match (t.first(), t.last()) {
-                    (Some(a), Some(b)) => format!("{} tolerances {a:e} .. {b:e}", t.len()),
-                    _ => "no tolerances".to_string(),
-                },
+                (Ladder::Tolerances(t), _) => describe_tolerances("fixed", t),
             };
             json!({ "name": p.name, "stepper": p.stepper, "kind": p.kind.name(),
                     "problem": p.problem.name(), "ladder": ladder, "recorded": recorded.is_some() })
         })
         .collect();
     json!({ "format": JSON_FORMAT, "baseline": baseline_path, "checks": checks })
+}
+
+fn describe_tolerances(what: &str, t: &[f64]) -> String {
+    match (t.first(), t.last()) {
+        (Some(a), Some(b)) => format!("{what}: {} tolerances {a:e} .. {b:e}", t.len()),
+        _ => format!("{what}: no tolerances"),
+    }
 }
 
 fn describe_steps(what: &str, steps: &[u64]) -> String {

@@ -1,12 +1,19 @@
 //! Running the rungs of a ladder: the step grid of a rung, reading the
 //! solution and invariant errors at its samples, the automatic choice of the
-//! ladder, and self-convergence for problems with no exact solution.
+//! ladder (steps, or tolerances with the fallback to steps for integrators
+//! that support only fixed steps), and self-convergence for problems with no
+//! exact solution. Tolerance ladders are read from the controller's
+//! asymptotic regime on ([`super::adaptive`]).
 
+use crate::measure::adaptive::{
+    auto_tolerances, proportionality, work_regime, AdaptiveReport, LadderStop, NoOrder,
+    MIN_REGIME_DECADES,
+};
 use crate::measure::method::{advance_checked, Counted, Method};
 use crate::measure::{Config, Ladder, MeasureError};
-use crate::metrics::{analyse_series, digits, SeriesAnalysis};
+use crate::metrics::{analyse_series_from, digits, SeriesAnalysis};
 use crate::problem::Problem;
-use crate::stepper::Counts;
+use crate::stepper::{Control, Counts, IntegrateError};
 
 /// The resolution of one rung.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -120,6 +127,8 @@ pub(crate) struct LadderRun {
     pub basis: Basis,
     pub solution: SeriesAnalysis,
     pub invariant_analyses: Vec<SeriesAnalysis>,
+    /// How a tolerance ladder was read (`None` for fixed steps).
+    pub adaptive: Option<AdaptiveReport>,
 }
 
 /// A rung with the raw data needed after it ran.
@@ -339,38 +348,234 @@ fn x_axis(rungs: &[RawRung]) -> Vec<f64> {
         .collect()
 }
 
-fn analyse(raw: &[RawRung], d: &[Option<f64>]) -> SeriesAnalysis {
+/// The series `d` over the rungs, read from rung `start` on.
+fn analyse(raw: &[RawRung], d: &[Option<f64>], start: usize) -> SeriesAnalysis {
     let steps: Vec<u64> = raw.iter().map(|r| r.rung.steps).collect();
-    analyse_series(&x_axis(raw), d, &steps)
+    analyse_series_from(&x_axis(raw), d, &steps, start)
 }
 
-/// Whether the automatic ladder can stop after the rungs so far.
+/// The tolerances and evaluations of tolerance rungs (empty for fixed steps).
+fn tolerance_axes(raw: &[RawRung]) -> (Vec<f64>, Vec<u64>) {
+    raw.iter()
+        .filter_map(|r| match r.rung.resolution {
+            Resolution::Tolerance(t) => Some((t, r.rung.evals)),
+            Resolution::StepsPerUnit(_) => None,
+        })
+        .unzip()
+}
+
+/// The first rung of the fit: 0 for fixed steps; for tolerances the start
+/// of the controller's asymptotic regime (the whole ladder when there is
+/// none, so nothing is fitted).
+fn fit_start(raw: &[RawRung]) -> usize {
+    let (tols, evals) = tolerance_axes(raw);
+    if tols.is_empty() {
+        return 0;
+    }
+    work_regime(&tols, &evals).map_or(raw.len(), |r| r.start)
+}
+
+/// Whether the automatic step ladder can stop after the rungs so far.
 fn ladder_done<P: Problem + ?Sized>(problem: &P, raw: &[RawRung], basis: Basis) -> bool {
     let d = solution_digits(problem, raw, basis);
-    let a = analyse(raw, &d);
+    let a = analyse(raw, &d, 0);
     let latest = d.iter().rev().flatten().next().copied().unwrap_or(0.0);
     let plateau_rungs = a.plateau_from.map_or(0, |p| raw.len() - p);
     latest >= 15.0 || a.floor_from.is_some() || plateau_rungs >= 2
 }
 
+/// Why the automatic tolerance ladder can stop after the rungs so far, if
+/// it can: 15 digits anywhere, or the roundoff floor within the
+/// controller's regime. A plateau does not stop it: on a ladder still
+/// growing, the regime found so far may start too early, and an apparent
+/// plateau there is often the controller settling; the ladder is bounded
+/// by its finest tolerance anyway.
+fn tolerances_done<P: Problem + ?Sized>(
+    problem: &P,
+    raw: &[RawRung],
+    basis: Basis,
+) -> Option<LadderStop> {
+    let d = solution_digits(problem, raw, basis);
+    if d.iter().rev().flatten().next().is_some_and(|&x| x >= 15.0) {
+        return Some(LadderStop::Digits);
+    }
+    let (tols, evals) = tolerance_axes(raw);
+    let start = work_regime(&tols, &evals).ok()?.start;
+    analyse(raw, &d, start)
+        .floor_from
+        .map(|_| LadderStop::Floor)
+}
+
+/// Whether the order fit of a tolerance ladder spans at least
+/// [`MIN_REGIME_DECADES`] decades of tolerance (always true on fixed steps).
+fn fit_spans_regime(raw: &[RawRung], a: &SeriesAnalysis) -> bool {
+    let Some(f) = a.fit else { return true };
+    match (raw[f.first].rung.resolution, raw[f.last].rung.resolution) {
+        (Resolution::Tolerance(a), Resolution::Tolerance(b)) => {
+            b > 0.0 && a / b >= 10f64.powf(MIN_REGIME_DECADES) * (1.0 - 1e-9)
+        }
+        _ => true,
+    }
+}
+
+fn basis_of(first: &RawRung) -> Basis {
+    if first.exact_error.is_some() {
+        Basis::Exact
+    } else {
+        Basis::SelfConvergence
+    }
+}
+
+/// The automatic step ladder: steps per unit doubling from `start` (see
+/// [`Ladder::Auto`]).
+fn run_auto_steps<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    config: &Config,
+    (start, max_rungs, budget): (u64, usize, u64),
+    raw: &mut Vec<RawRung>,
+) -> Result<(), MeasureError> {
+    let (mut n, mut total) = (start, 0u64);
+    loop {
+        let g = grid(n, config.periods, config.samples_per_unit).map_err(MeasureError::Config)?;
+        if !raw.is_empty() && total.saturating_add(g.total) > budget {
+            // Out of budget while the local slope still moves: one more
+            // rung at the fine end with what is left.
+            if raw.len() < max_rungs && still_converging(problem, raw, basis_of(&raw[0])) {
+                if let Some(g) = refinement(n / 2, budget.saturating_sub(total), config) {
+                    raw.push(run_fixed_rung(method, problem, g, config.periods)?);
+                }
+            }
+            return Ok(());
+        }
+        raw.push(run_fixed_rung(method, problem, g, config.periods)?);
+        total += g.total;
+        if raw.len() >= max_rungs || ladder_done(problem, raw, basis_of(&raw[0])) {
+            return Ok(());
+        }
+        match n.checked_mul(2) {
+            Some(next) => n = next,
+            None => return Ok(()),
+        }
+    }
+}
+
 /// Whether the order reading of the rungs so far is not (yet) asymptotic.
 fn still_converging<P: Problem + ?Sized>(problem: &P, raw: &[RawRung], basis: Basis) -> bool {
     let d = solution_digits(problem, raw, basis);
-    analyse(raw, &d)
+    analyse(raw, &d, 0)
         .fit
         .is_none_or(|f| f.status != crate::metrics::FitStatus::Asymptotic)
 }
 
 /// One more rung between `last` and `2 last` steps per unit that fits the
 /// `left` steps of the budget: the finest of `last * k / 8` for k = 15
-/// down to 9 whose grid is whole. When the doubling ladder runs out of
-/// budget while the local slope still moves, this spends what is left on
-/// one more reading at the fine end.
+/// down to 9 whose grid is whole.
 fn refinement(last: u64, left: u64, config: &Config) -> Option<Grid> {
     (9..16u64).rev().find_map(|k| {
         let n = last.checked_mul(k)? / 8;
         let g = grid(n, config.periods, config.samples_per_unit).ok()?;
         (n * 8 == last * k && g.total <= left).then_some(g)
+    })
+}
+
+/// Consecutive failed rungs that end the automatic tolerance ladder.
+const FAILURES_TO_STOP: usize = 2;
+
+/// The automatic tolerance ladder: the tolerances of [`auto_tolerances`]
+/// until a stop rule holds. A rung the integrator fails on is left out (a
+/// coarse tolerance can lose an orbit that finer ones follow); two in a row
+/// end the ladder. `first` is the outcome of the first rung, already run.
+fn run_auto_tolerances<M: Method, P: Problem + ?Sized>(
+    method: &mut M,
+    problem: &P,
+    config: &Config,
+    budget: u64,
+    first: Result<RawRung, IntegrateError>,
+    raw: &mut Vec<RawRung>,
+) -> Result<LadderStop, MeasureError> {
+    let mut pending = Some(first);
+    let (mut fails, mut total) = (0, 0u64);
+    for tol in auto_tolerances() {
+        let outcome = match pending.take() {
+            Some(first) => first,
+            None => {
+                if let Some(stop) = raw
+                    .first()
+                    .and_then(|f| tolerances_done(problem, raw, basis_of(f)))
+                {
+                    return Ok(stop);
+                }
+                // The next rung's work, extrapolated geometrically.
+                let e: Vec<f64> = raw
+                    .iter()
+                    .rev()
+                    .take(2)
+                    .map(|r| r.rung.evals.max(1) as f64)
+                    .collect();
+                let next = match e.as_slice() {
+                    [a, b] => a * a / b,
+                    [a] => 2.0 * a,
+                    _ => 0.0,
+                };
+                if total as f64 + next > budget as f64 {
+                    return Ok(LadderStop::Budget(budget));
+                }
+                match run_tolerance_rung(method, problem, tol, config) {
+                    Err(MeasureError::Integrator(e)) => Err(e),
+                    other => Ok(other?),
+                }
+            }
+        };
+        match outcome {
+            Ok(r) => {
+                total = total.saturating_add(r.rung.evals);
+                raw.push(r);
+                fails = 0;
+            }
+            Err(e) => {
+                fails += 1;
+                if fails >= FAILURES_TO_STOP {
+                    if raw.is_empty() {
+                        return Err(MeasureError::Integrator(e));
+                    }
+                    return Ok(LadderStop::Failed {
+                        tol,
+                        reason: e.to_string(),
+                    });
+                }
+            }
+        }
+    }
+    let basis = raw.first().map(basis_of).unwrap_or(Basis::Exact);
+    Ok(tolerances_done(problem, raw, basis).unwrap_or(LadderStop::Finest))
+}
+
+/// How the tolerance rungs were read: regime, the reason for no order,
+/// proportionality over the fitted rungs.
+fn adaptive_report(
+    raw: &[RawRung],
+    d: &[Option<f64>],
+    solution: &SeriesAnalysis,
+    stop: Option<LadderStop>,
+) -> Option<AdaptiveReport> {
+    let (tols, evals) = tolerance_axes(raw);
+    if tols.is_empty() {
+        return None;
+    }
+    let regime = work_regime(&tols, &evals);
+    let no_order = match (&regime, solution.fit) {
+        (_, Some(_)) => None,
+        (Ok(r), None) => Some(NoOrder::RegimeUnresolved { start: r.start }),
+        (Err(e), None) => Some(e.clone()),
+    };
+    Some(AdaptiveReport {
+        regime: regime.ok(),
+        no_order,
+        proportionality: solution
+            .fit
+            .and_then(|f| proportionality(&tols, d, f.first, f.last)),
+        stop,
     })
 }
 
@@ -381,14 +586,7 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
     config: &Config,
 ) -> Result<LadderRun, MeasureError> {
     let mut raw: Vec<RawRung> = Vec::new();
-    let mut basis = None;
-    let mut basis_of = |first: &RawRung| {
-        *basis.get_or_insert(if first.exact_error.is_some() {
-            Basis::Exact
-        } else {
-            Basis::SelfConvergence
-        })
-    };
+    let mut stop = None;
     match &config.ladder {
         Ladder::Steps(steps) => {
             for &n in steps {
@@ -406,31 +604,49 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
             start,
             max_rungs,
             budget,
+        } => run_auto_steps(
+            method,
+            problem,
+            config,
+            (*start, *max_rungs, *budget),
+            &mut raw,
+        )?,
+        Ladder::AutoTolerances {
+            budget,
+            start,
+            max_rungs,
         } => {
-            let (mut n, mut total) = (*start, 0u64);
-            let mut over_budget = false;
-            loop {
-                let g = grid(n, config.periods, config.samples_per_unit)
-                    .map_err(MeasureError::Config)?;
-                if !raw.is_empty() && total.saturating_add(g.total) > *budget {
-                    over_budget = true;
-                    break;
+            let first = auto_tolerances()[0];
+            match run_tolerance_rung(method, problem, first, config) {
+                // Fixed steps only: the automatic step ladder instead.
+                Err(MeasureError::Integrator(IntegrateError::Unsupported(
+                    Control::Tolerance { .. },
+                ))) => run_auto_steps(
+                    method,
+                    problem,
+                    config,
+                    (*start, *max_rungs, *budget),
+                    &mut raw,
+                )?,
+                Err(MeasureError::Integrator(e)) => {
+                    stop = Some(run_auto_tolerances(
+                        method,
+                        problem,
+                        config,
+                        *budget,
+                        Err(e),
+                        &mut raw,
+                    )?)
                 }
-                raw.push(run_fixed_rung(method, problem, g, config.periods)?);
-                total += g.total;
-                let b = basis_of(&raw[0]);
-                if raw.len() >= *max_rungs || ladder_done(problem, &raw, b) {
-                    break;
-                }
-                match n.checked_mul(2) {
-                    Some(next) => n = next,
-                    None => break,
-                }
-            }
-            let b = basis_of(&raw[0]);
-            if over_budget && raw.len() < *max_rungs && still_converging(problem, &raw, b) {
-                if let Some(g) = refinement(n / 2, budget.saturating_sub(total), config) {
-                    raw.push(run_fixed_rung(method, problem, g, config.periods)?);
+                rung => {
+                    stop = Some(run_auto_tolerances(
+                        method,
+                        problem,
+                        config,
+                        *budget,
+                        Ok(rung?),
+                        &mut raw,
+                    )?)
                 }
             }
         }
@@ -440,16 +656,23 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
         .ok_or_else(|| MeasureError::Config("the ladder ran no rung".into()))?;
     let basis = basis_of(first);
     let d = solution_digits(problem, &raw, basis);
-    let solution = analyse(&raw, &d);
+    let mut start = fit_start(&raw);
+    let mut solution = analyse(&raw, &d, start);
+    if !fit_spans_regime(&raw, &solution) {
+        // Too short a fit to be an order: nothing is fitted.
+        start = raw.len();
+        solution = analyse(&raw, &d, start);
+    }
     let invariant_analyses = (0..problem.invariants().len())
         .map(|k| {
             let dk: Vec<Option<f64>> = raw
                 .iter()
                 .map(|r| r.rung.invariant_digits.get(k).copied())
                 .collect();
-            analyse(&raw, &dk)
+            analyse(&raw, &dk, start)
         })
         .collect();
+    let adaptive = adaptive_report(&raw, &d, &solution, stop);
     let rungs = raw
         .into_iter()
         .zip(d)
@@ -463,5 +686,6 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
         basis,
         solution,
         invariant_analyses,
+        adaptive,
     })
 }

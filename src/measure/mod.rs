@@ -3,21 +3,24 @@
 //!
 //! The parts: [`method`] adapts the three user traits to one driving
 //! interface; [`ladder`] runs the rungs (fixed step counts or tolerances)
-//! and reads solution and invariant errors at the samples; [`long_run`]
+//! and reads solution and invariant errors at the samples; [`adaptive`]
+//! reads a tolerance ladder as a work-precision diagram; [`long_run`]
 //! measures drift, period, virial residual and reversibility. The figures
 //! are computed by the pure functions of [`crate::metrics`].
 
+pub mod adaptive;
 pub mod ladder;
 pub mod long_run;
 pub mod method;
 
+pub use adaptive::{AdaptiveReport, LadderStop, NoOrder, Proportionality, WorkRegime};
 pub use ladder::{Basis, Resolution, Rung};
 pub use long_run::{Envelope, LongRunReport, PeriodReport};
 pub use method::{Counted, Fixed, Method, MethodKind, Split, Whole};
 
 use crate::metrics::{DriftFit, SeriesAnalysis};
 use crate::problem::Problem;
-use crate::stepper::IntegrateError;
+use crate::stepper::{Control, IntegrateError};
 
 /// Which resolutions a check runs at.
 #[derive(Clone, Debug, PartialEq)]
@@ -38,8 +41,27 @@ pub enum Ladder {
     },
     /// For integrators: adaptive runs at these tolerances (relative and
     /// absolute alike), coarse to fine. Each rung is one call over the whole
-    /// horizon, and its error is read at the end.
+    /// horizon, and its error is read at the end. The order is read from the
+    /// controller's asymptotic regime on ([`adaptive::work_regime`]).
     Tolerances(Vec<f64>),
+    /// For integrators: the tolerances of [`adaptive::auto_tolerances`]
+    /// (1e-2 down to 1e-15, half a decade apart) until the solution reaches
+    /// 15 digits, the controller's regime reaches the roundoff floor or a
+    /// plateau over a decade of tolerance, the integrator fails at a
+    /// tolerance (that rung is dropped), or the next rung would take the
+    /// evaluations summed over the ladder over `budget`. An integrator that
+    /// refuses tolerances ([`IntegrateError::Unsupported`]) on the first
+    /// rung runs [`Ladder::Auto`] with `start`, `max_rungs` and `budget`
+    /// (then in steps) instead.
+    AutoTolerances {
+        /// Most right-hand-side evaluations summed over the rungs (most
+        /// steps for the step ladder of a fixed-step-only integrator).
+        budget: u64,
+        /// First rung of the step ladder of a fixed-step-only integrator.
+        start: u64,
+        /// Most rungs of that step ladder.
+        max_rungs: usize,
+    },
 }
 
 impl Default for Ladder {
@@ -62,6 +84,29 @@ impl Ladder {
     /// ```
     pub fn default_tolerances() -> Ladder {
         Ladder::Tolerances((4..=13).map(|k| 10f64.powi(-k)).collect())
+    }
+
+    /// The automatic tolerance ladder with the step ladder of
+    /// [`Ladder::default`] as its fallback.
+    ///
+    /// ```
+    /// use drift::measure::Ladder;
+    /// assert!(matches!(Ladder::default_adaptive(), Ladder::AutoTolerances { budget: 4_000_000, .. }));
+    /// ```
+    pub fn default_adaptive() -> Ladder {
+        let Ladder::Auto {
+            start,
+            max_rungs,
+            budget,
+        } = Ladder::default()
+        else {
+            unreachable!("the default ladder is automatic")
+        };
+        Ladder::AutoTolerances {
+            budget,
+            start,
+            max_rungs,
+        }
     }
 }
 
@@ -284,6 +329,9 @@ pub struct Measurement {
     /// reversibility run: the method diverged. (Divergence of coarse rungs
     /// is recorded in the rung only.)
     pub diverged: Option<Divergence>,
+    /// How a tolerance ladder was read: the controller's regime, tolerance
+    /// proportionality, why no order was read (`None` on fixed steps).
+    pub adaptive: Option<AdaptiveReport>,
 }
 
 /// Why a measurement could not be made.
@@ -306,8 +354,27 @@ impl std::fmt::Display for MeasureError {
             MeasureError::Incompatible(m) => write!(f, "incompatible: {m}"),
             MeasureError::Config(m) => write!(f, "configuration: {m}"),
             MeasureError::Panicked(m) => write!(f, "the method panicked: {m}"),
-            MeasureError::Integrator(e) => write!(f, "{e}"),
+            MeasureError::Integrator(e) => {
+                write!(f, "{e}")?;
+                if let Some(help) = integrator_help(e) {
+                    write!(f, "\n  help: {help}")?;
+                }
+                Ok(())
+            }
         }
+    }
+}
+
+/// What to change in `drift.toml` when an integrator refuses how it is driven.
+fn integrator_help(e: &IntegrateError) -> Option<&'static str> {
+    match e {
+        IntegrateError::Unsupported(Control::Tolerance { .. }) => Some(
+            "this integrator supports fixed steps only: remove `tolerances` from the check in drift.toml for an automatic step ladder, or give `ladder = [...]` (steps per period)",
+        ),
+        IntegrateError::Unsupported(Control::Steps(_)) => Some(
+            "this integrator supports tolerances only: remove `ladder` from the check in drift.toml for the automatic tolerance ladder, or give `tolerances = [...]`",
+        ),
+        _ => None,
     }
 }
 
@@ -394,7 +461,9 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
         t,
     });
 
-    let fixed_ladder = !matches!(config.ladder, Ladder::Tolerances(_));
+    // Fixed steps ran (a tolerance ladder falls back to steps for an
+    // integrator that supports only fixed steps).
+    let fixed_ladder = lad.adaptive.is_none();
     let fallback = config.samples_per_unit * 64;
     let long_at = config
         .long_run
@@ -467,6 +536,7 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
         reversibility_run,
         evals_per_step,
         diverged,
+        adaptive: lad.adaptive,
     })
 }
 
@@ -540,6 +610,17 @@ fn validate<P: Problem + ?Sized>(problem: &P, config: &Config) -> Result<(), Mea
                 .map_err(MeasureError::Config)?;
             if *max_rungs == 0 {
                 return bad("max_rungs must be at least 1".into());
+            }
+        }
+        Ladder::AutoTolerances {
+            budget, max_rungs, ..
+        } => {
+            // The fallback's first rung is checked when it runs: an
+            // integrator that takes tolerances never needs it.
+            if *budget == 0 || *max_rungs == 0 {
+                return bad(
+                    "the budget and max_rungs of a tolerance ladder must be at least 1".into(),
+                );
             }
         }
         Ladder::Tolerances(tols) => {

@@ -224,7 +224,7 @@ impl Spec {
     /// let catalog = Catalog { steppers: vec![("dopri".into(), MethodKind::Whole)], user_problems: vec![] };
     /// let plans = Spec::default_for(&catalog).plans();
     /// assert!(plans.windows(2).all(|w| w[0].name < w[1].name));
-    /// assert!(plans.iter().all(|p| matches!(p.config.ladder, Ladder::Tolerances(_))));
+    /// assert!(plans.iter().all(|p| matches!(p.config.ladder, Ladder::AutoTolerances { .. })));
     /// ```
     pub fn plans(&self) -> Vec<Plan> {
         self.plans.clone()

@@ -355,7 +355,10 @@ pub(super) fn parse(text: &str, path: &Path, cat: &Catalog) -> Result<Spec, Spec
 /// an energy claim needs the long run, a reversibility claim the
 /// reversibility run; neither runs on a tolerance ladder.
 fn measurable(loc: &Locator, decl: &StepperDecl, plan: &Plan) -> Result<(), SpecError> {
-    let tolerances = matches!(plan.config.ladder, Ladder::Tolerances(_));
+    let tolerances = matches!(
+        plan.config.ladder,
+        Ladder::Tolerances(_) | Ladder::AutoTolerances { .. }
+    );
     let why = |missing: bool, what: &str| {
         if tolerances {
             Some("it runs on a tolerance ladder, where neither a long run nor a reversibility run is made".to_string())

@@ -72,7 +72,11 @@ impl Settings {
         let ladder = match (own.ladder, own.tolerances, kind) {
             (Some(steps), _, _) => Ladder::Steps(steps),
             (None, Some(tols), _) => Ladder::Tolerances(tols),
-            (None, None, MethodKind::Whole) => Ladder::default_tolerances(),
+            (None, None, MethodKind::Whole) => Ladder::AutoTolerances {
+                budget,
+                start: auto_start(self.samples),
+                max_rungs: AUTO_MAX_RUNGS,
+            },
             (None, None, _) => Ladder::Auto {
                 start: auto_start(self.samples),
                 max_rungs: AUTO_MAX_RUNGS,
