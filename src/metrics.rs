@@ -459,7 +459,8 @@ fn classify(
         let s = prev.and_then(|j| slope(x, digit, j, k));
         // Near rounding level the slope rolls off gradually: a slope below
         // half the order so far already marks the floor there.
-        let floor_stall = s.is_some_and(|s| s < STALL_SLOPE.max(STALL_FRACTION * order_so_far(&slopes)));
+        let floor_stall =
+            s.is_some_and(|s| s < STALL_SLOPE.max(STALL_FRACTION * order_so_far(&slopes)));
         if floor_stall && digit(k) >= rounding_digits(steps[k]) {
             floor_from = Some(k);
             classes[k] = RungClass::Floor;
@@ -764,10 +765,14 @@ impl DriftClass {
     /// assert_eq!(DriftClass::of_exponent(2.0), DriftClass::Growing);
     /// ```
     pub fn of_exponent(e: f64) -> DriftClass {
-        [DriftClass::Bounded, DriftClass::RandomWalk, DriftClass::Linear]
-            .into_iter()
-            .find(|c| e < c.upper_exponent())
-            .unwrap_or(DriftClass::Growing)
+        [
+            DriftClass::Bounded,
+            DriftClass::RandomWalk,
+            DriftClass::Linear,
+        ]
+        .into_iter()
+        .find(|c| e < c.upper_exponent())
+        .unwrap_or(DriftClass::Growing)
     }
 
     /// The largest exponent of the class (the boundary to the next):

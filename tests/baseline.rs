@@ -691,10 +691,7 @@ fn a_new_plateau_regresses() {
     now.classes[3] = RungClass::Plateau;
     let j = judge_default(&now, Some(&base), &Claims::default());
     assert_eq!(j.verdict, Verdict::Regressed);
-    assert_eq!(
-        status_of(&j, "plateau"),
-        Some(RowStatus::Worse)
-    );
+    assert_eq!(status_of(&j, "plateau"), Some(RowStatus::Worse));
     // With an order claim, the plateau violates it even at the right slope.
     let j = judge_default(
         &now,

@@ -31,7 +31,13 @@ fn workdir(name: &str) -> PathBuf {
 
 /// The failing checks of one harness run of `variant` (registered as the
 /// family's stepper) against `baseline`, recording it when `record`.
-fn run(dir: &Path, family: &Family, variant: &Variant, baseline: &Path, record: bool) -> Vec<String> {
+fn run(
+    dir: &Path,
+    family: &Family,
+    variant: &Variant,
+    baseline: &Path,
+    record: bool,
+) -> Vec<String> {
     let out = dir.join("measurements.json");
     let _ = std::fs::remove_file(&out);
     std::env::set_var(ENV_BASELINE, baseline);
@@ -46,7 +52,7 @@ fn run(dir: &Path, family: &Family, variant: &Variant, baseline: &Path, record: 
         ..Arguments::default()
     };
     let harness = (variant.register)(Harness::new().root(dir), family.name);
-    harness.run(&args).expect("the harness starts");
+    let _ = harness.run(&args).expect("the harness starts");
     let text = std::fs::read_to_string(&out).expect("the harness wrote its measurements");
     let doc: serde_json::Value = serde_json::from_str(&text).expect("measurements are JSON");
     let checks = doc["checks"].as_array().expect("checks").clone();
@@ -127,7 +133,10 @@ fn neutral_rewrites_never_fail_and_planted_bugs_always_do() {
         }
         for bug in planted(family.name) {
             if run(&dir, &family, &bug, &baselines[0], false).is_empty() {
-                missed.push(format!("{} passed against {}", bug.name, family.variants[0].name));
+                missed.push(format!(
+                    "{} passed against {}",
+                    bug.name, family.variants[0].name
+                ));
             }
         }
     }
@@ -137,5 +146,9 @@ fn neutral_rewrites_never_fail_and_planted_bugs_always_do() {
         "neutral rewrites failed:\n{}",
         false_alarms.join("\n")
     );
-    assert!(missed.is_empty(), "planted bugs passed:\n{}", missed.join("\n"));
+    assert!(
+        missed.is_empty(),
+        "planted bugs passed:\n{}",
+        missed.join("\n")
+    );
 }

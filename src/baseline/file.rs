@@ -101,8 +101,10 @@ struct RawInvariant {
     order: Option<f64>,
     drift_forward: Option<DriftClass>,
     drift_forward_exponent: Option<f64>,
+    drift_forward_digits: Option<f64>,
     drift_backward: Option<DriftClass>,
     drift_backward_exponent: Option<f64>,
+    drift_backward_digits: Option<f64>,
 }
 
 /// A run's resolution and horizon from its two keys (`what_steps_per_unit`,
@@ -120,19 +122,30 @@ fn join_run(steps: Option<u64>, periods: Option<f64>, what: &str) -> Result<Opti
     }
 }
 
-fn split_drift(d: Option<DriftRecord>) -> (Option<DriftClass>, Option<f64>) {
-    (d.map(|d| d.class), d.map(|d| d.exponent))
+type DriftKeys = (Option<DriftClass>, Option<f64>, Option<f64>);
+
+fn split_drift(d: Option<DriftRecord>) -> DriftKeys {
+    (
+        d.map(|d| d.class),
+        d.map(|d| d.exponent),
+        d.and_then(|d| d.digits),
+    )
 }
 
 fn join_drift(
-    class: Option<DriftClass>,
-    exponent: Option<f64>,
+    (class, exponent, digits): DriftKeys,
     what: &str,
 ) -> Result<Option<DriftRecord>, String> {
     match (class, exponent) {
-        (Some(class), Some(exponent)) => Ok(Some(DriftRecord { class, exponent })),
-        (None, None) => Ok(None),
-        _ => Err(format!("`{what}` and `{what}_exponent` go together")),
+        (Some(class), Some(exponent)) => Ok(Some(DriftRecord {
+            class,
+            exponent,
+            digits,
+        })),
+        (None, None) if digits.is_none() => Ok(None),
+        _ => Err(format!(
+            "`{what}`, `{what}_exponent` (and `{what}_digits`) go together"
+        )),
     }
 }
 
@@ -148,16 +161,20 @@ impl From<&CheckRecord> for RawCheck {
             .invariants
             .iter()
             .map(|(name, inv)| {
-                let (drift_forward, drift_forward_exponent) = split_drift(inv.drift_forward);
-                let (drift_backward, drift_backward_exponent) = split_drift(inv.drift_backward);
+                let (drift_forward, drift_forward_exponent, drift_forward_digits) =
+                    split_drift(inv.drift_forward);
+                let (drift_backward, drift_backward_exponent, drift_backward_digits) =
+                    split_drift(inv.drift_backward);
                 let raw = RawInvariant {
                     best_digits: inv.best_digits,
                     best_uncertainty: inv.best_digits.map(|_| inv.best_uncertainty),
                     order: inv.order,
                     drift_forward,
                     drift_forward_exponent,
+                    drift_forward_digits,
                     drift_backward,
                     drift_backward_exponent,
+                    drift_backward_digits,
                 };
                 (name.clone(), raw)
             })
@@ -297,13 +314,19 @@ impl RawCheck {
                     best_uncertainty: uncertainty("best_uncertainty", raw.best_uncertainty)?,
                     order: raw.order,
                     drift_forward: join_drift(
-                        raw.drift_forward,
-                        raw.drift_forward_exponent,
+                        (
+                            raw.drift_forward,
+                            raw.drift_forward_exponent,
+                            raw.drift_forward_digits,
+                        ),
                         "drift_forward",
                     )?,
                     drift_backward: join_drift(
-                        raw.drift_backward,
-                        raw.drift_backward_exponent,
+                        (
+                            raw.drift_backward,
+                            raw.drift_backward_exponent,
+                            raw.drift_backward_digits,
+                        ),
                         "drift_backward",
                     )?,
                 };

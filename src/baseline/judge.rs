@@ -7,7 +7,10 @@ use std::fmt;
 use super::record::{CheckRecord, DriftRecord, InvariantRecord};
 use crate::claims::{Claims, EnergyClaim, Slack, ORDER_CLAIM_BAND, REVERSIBLE_DIGITS};
 use crate::measure::Basis;
-use crate::metrics::{DriftClass, FitStatus, OrderFit, RungClass};
+use crate::measure::RunAt;
+use crate::metrics::{
+    rounding_uncertainty, roundoff_digits, DriftClass, FitStatus, OrderFit, RungClass, FLOOR_BAND,
+};
 
 /// Differences this small are representation noise of the rounded decimals,
 /// not changes (the stored figures have 3 decimals).
@@ -291,11 +294,27 @@ impl Rows {
     fn drift(
         &mut self,
         metric: String,
-        base: Option<DriftRecord>,
-        now: Option<DriftRecord>,
+        (base, now): (Option<DriftRecord>, Option<DriftRecord>),
         slack: f64,
+        roundoff: f64,
     ) {
         let limit = |b: DriftRecord| (b.exponent + slack).max(b.class.upper_exponent());
+        // Kept to roundoff on both sides: the drift is rounding's alone.
+        let at_roundoff = |d: Option<DriftRecord>| {
+            d.and_then(|d| d.digits)
+                .is_some_and(|x| x >= roundoff - FLOOR_BAND)
+        };
+        if at_roundoff(base) && at_roundoff(now) {
+            let row = MetricRow {
+                metric,
+                baseline: base.map(|d| d.exponent),
+                now: now.map(|d| d.exponent),
+                allowed: "not judged: kept to roundoff".into(),
+                status: RowStatus::Ok,
+            };
+            self.push(row, false);
+            return;
+        }
         let status = match (base, now) {
             (Some(b), Some(n)) if n.class > b.class && n.exponent > limit(b) => RowStatus::Worse,
             (Some(b), Some(n)) if n.class < b.class && n.exponent < b.exponent - slack => {
@@ -344,6 +363,17 @@ fn claimed_class(c: EnergyClaim) -> DriftClass {
     }
 }
 
+/// The random-walk roundoff level of a run (digits), or infinity when the
+/// run is unknown (nothing counts as roundoff then).
+fn run_roundoff(at: Option<RunAt>) -> f64 {
+    at.map_or(f64::INFINITY, |a| {
+        roundoff_digits(
+            a.steps_per_unit
+                .saturating_mul(a.periods.max(1.0).round() as u64),
+        )
+    })
+}
+
 /// The best digits of a record as a reading.
 fn best_reading(r: &CheckRecord) -> Option<Reading> {
     r.best.map(|b| Reading {
@@ -353,11 +383,14 @@ fn best_reading(r: &CheckRecord) -> Option<Reading> {
 }
 
 /// Why an order is not gated, if it is not: a converging reading on
-/// either side, or none at all.
+/// either side, or no reading on one side (the digits of every rung and
+/// the claims still judge the check).
 fn ungated(base: Option<&OrderFit>, now: Option<&OrderFit>) -> Option<&'static str> {
     let converging = |f: Option<&OrderFit>| f.is_some_and(|f| f.status == FitStatus::Converging);
     if converging(base) || converging(now) {
         Some("not gated: still converging")
+    } else if base.is_none() || now.is_none() {
+        Some("not gated: no reading on one side")
     } else {
         None
     }
@@ -401,7 +434,11 @@ fn plateau_row(now: &CheckRecord, base: &CheckRecord, rows: &mut Rows) {
         (Some(_), None) => RowStatus::Better,
         _ => RowStatus::Ok,
     };
-    let at = |k: Option<usize>| k.map_or("none".to_string(), |k| format!("from {}", base.ladder.label(k)));
+    let at = |k: Option<usize>| {
+        k.map_or("none".to_string(), |k| {
+            format!("from {}", base.ladder.label(k))
+        })
+    };
     let row = MetricRow {
         metric: "plateau".into(),
         baseline: None,
@@ -468,9 +505,9 @@ fn compare(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows
         );
         rows.drift(
             format!("{name} drift exponent fwd"),
-            b.drift_forward,
-            n.and_then(|n| n.drift_forward),
+            (b.drift_forward, n.and_then(|n| n.drift_forward)),
             slack.drift_exponent,
+            run_roundoff(base.runs.long_run),
         );
     }
     let figures = [
@@ -493,14 +530,21 @@ fn compare(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows
             slack.reversibility_digits,
         ),
     ];
+    let rev = run_roundoff(base.runs.reversibility);
     for (metric, b, n, s) in figures {
-        rows.more_is_better(
-            metric.into(),
-            b.map(Reading::exact),
-            n.map(Reading::exact),
-            s,
-            false,
-        );
+        // Reversibility of a symmetric method sits at roundoff, where
+        // rounding decides it (see metrics::rounding_uncertainty).
+        let reading = |v: f64| match base.runs.reversibility {
+            Some(at) if metric.starts_with("reversibility") && v >= rev - FLOOR_BAND => Reading {
+                value: v,
+                uncertainty: rounding_uncertainty(
+                    at.steps_per_unit
+                        .saturating_mul(2 * at.periods.max(1.0) as u64),
+                ),
+            },
+            _ => Reading::exact(v),
+        };
+        rows.more_is_better(metric.into(), b.map(reading), n.map(reading), s, false);
     }
 }
 

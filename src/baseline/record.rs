@@ -75,8 +75,12 @@ impl LadderRecord {
 pub struct DriftRecord {
     /// Its class (what is compared).
     pub class: DriftClass,
-    /// The fitted exponent of err ~ t^a, rounded (shown, not compared).
+    /// The fitted exponent of err ~ t^a, rounded.
     pub exponent: f64,
+    /// Digits of the largest error over the run (absent in older files):
+    /// an invariant kept to roundoff drifts by rounding alone, and its
+    /// class is then not judged.
+    pub digits: Option<f64>,
 }
 
 impl DriftRecord {
@@ -84,6 +88,7 @@ impl DriftRecord {
         DriftRecord {
             class: fit.class,
             exponent: round_figure(fit.exponent),
+            digits: Some(round_figure(crate::metrics::digits(fit.max_error))),
         }
     }
 }

@@ -11,7 +11,7 @@ use crate::measure::adaptive::{
 };
 use crate::measure::method::{advance_checked, Counted, Method};
 use crate::measure::{Config, Ladder, MeasureError};
-use crate::metrics::{analyse_series_from, digits, SeriesAnalysis};
+use crate::metrics::{analyse_series_from, digits, RungClass, SeriesAnalysis};
 use crate::problem::Problem;
 use crate::stepper::{Control, Counts, IntegrateError};
 
@@ -349,9 +349,29 @@ fn x_axis(rungs: &[RawRung]) -> Vec<f64> {
 }
 
 /// The series `d` over the rungs, read from rung `start` on.
+/// Tolerances tighter than this are run but not read for order, floor or
+/// plateau: the error achieved there is set by the problem's conditioning
+/// times rounding, not by the controller (a correct DOP853 stalls at 9
+/// digits on the Arenstorf orbit from 1e-13 on, above the bound of
+/// `metrics::rounding_digits`). Common practice, no source.
+pub const TIGHTEST_READ: f64 = 1e-12;
+
 fn analyse(raw: &[RawRung], d: &[Option<f64>], start: usize) -> SeriesAnalysis {
     let steps: Vec<u64> = raw.iter().map(|r| r.rung.steps).collect();
-    analyse_series_from(&x_axis(raw), d, &steps, start)
+    let tight =
+        |r: &RawRung| matches!(r.rung.resolution, Resolution::Tolerance(t) if t < TIGHTEST_READ);
+    let read: Vec<Option<f64>> = raw
+        .iter()
+        .zip(d)
+        .map(|(r, d)| if tight(r) { None } else { *d })
+        .collect();
+    let mut a = analyse_series_from(&x_axis(raw), &read, &steps, start);
+    for (k, r) in raw.iter().enumerate() {
+        if tight(r) && d.get(k).copied().flatten().is_some() {
+            a.classes[k] = RungClass::NearFloor;
+        }
+    }
+    a
 }
 
 /// The tolerances and evaluations of tolerance rungs (empty for fixed steps).
@@ -656,12 +676,17 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
         .ok_or_else(|| MeasureError::Config("the ladder ran no rung".into()))?;
     let basis = basis_of(first);
     let d = solution_digits(problem, &raw, basis);
-    let mut start = fit_start(&raw);
+    let start = fit_start(&raw);
     let mut solution = analyse(&raw, &d, start);
     if !fit_spans_regime(&raw, &solution) {
-        // Too short a fit to be an order: nothing is fitted.
-        start = raw.len();
-        solution = analyse(&raw, &d, start);
+        // Too short a fit to be an order: nothing is fitted, but the
+        // digits and the best reached stay.
+        solution.fit = None;
+        for c in &mut solution.classes {
+            if *c == RungClass::Fitted {
+                *c = RungClass::PreAsymptotic;
+            }
+        }
     }
     let invariant_analyses = (0..problem.invariants().len())
         .map(|k| {

@@ -18,7 +18,7 @@ pub use ladder::{Basis, Resolution, Rung};
 pub use long_run::{Envelope, LongRunReport, PeriodReport};
 pub use method::{Counted, Fixed, Method, MethodKind, Split, Whole};
 
-use crate::metrics::{DriftFit, SeriesAnalysis};
+use crate::metrics::{DriftClass, DriftFit, SeriesAnalysis};
 use crate::problem::Problem;
 use crate::stepper::{Control, IntegrateError};
 
@@ -325,9 +325,10 @@ pub struct Measurement {
     pub reversibility_run: Option<RunAt>,
     /// Right-hand-side evaluations per accepted step, on the finest rung.
     pub evals_per_step: f64,
-    /// A NaN or infinity in the finest rung, the long run or the
-    /// reversibility run: the method diverged. (Divergence of coarse rungs
-    /// is recorded in the rung only.)
+    /// A NaN or infinity in the finest rung: the method diverged.
+    /// (Divergence of coarse rungs is recorded in the rung only; a long run
+    /// that blows up reads as growing drift, a reversibility run that does
+    /// as 0 digits: the method's behaviour at that resolution, not a fault.)
     pub diverged: Option<Divergence>,
     /// How a tolerance ladder was read: the controller's regime, tolerance
     /// proportionality, why no order was read (`None` on fixed steps).
@@ -456,7 +457,7 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
     } else {
         0.0
     };
-    let mut diverged = finest.diverged_at.map(|t| Divergence {
+    let diverged = finest.diverged_at.map(|t| Divergence {
         rung: Some(lad.rungs.len() - 1),
         t,
     });
@@ -474,13 +475,28 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
     if let (Some((lr, at)), true) = (long_at, fixed_ladder && long_run_measures(problem)) {
         match long_run::run(method, problem, at, lr.periods, config.samples_per_unit) {
             Ok(report) => {
-                if diverged.is_none() {
-                    diverged = report.diverged_at.map(|t| Divergence { rung: None, t });
-                }
+                // A long run that blows up at a resolution the ladder read
+                // cleanly is the method's unbounded growth there, not a
+                // fault: its invariants read as growing (explicit Euler on
+                // an oscillator gains energy geometrically, HNW I, II.1).
+                let blown = report.diverged_at.is_some();
+                let grown = |d: Option<DriftFit>| {
+                    if blown {
+                        Some(DriftFit {
+                            class: DriftClass::Growing,
+                            max_error: f64::INFINITY,
+                            exponent: d.map_or(f64::INFINITY, |d| {
+                                d.exponent.max(DriftClass::Linear.upper_exponent())
+                            }),
+                        })
+                    } else {
+                        d
+                    }
+                };
                 for (k, slot) in invariant_drift.iter_mut().enumerate() {
                     *slot = (
-                        report.drift_forward.get(k).copied().flatten(),
-                        report.drift_backward.get(k).copied().flatten(),
+                        grown(report.drift_forward.get(k).copied().flatten()),
+                        grown(report.drift_backward.get(k).copied().flatten()),
                     );
                 }
                 long = Some(report);
@@ -504,8 +520,11 @@ fn measure_inner<M: Method, P: Problem + ?Sized>(
                 reversibility_digits = Some(d);
                 reversibility_run = Some(at);
             }
-            Ok(Err(t)) => {
-                diverged.get_or_insert(Divergence { rung: None, t });
+            // Blown up on the way there or back at a resolution the ladder
+            // read cleanly: the method does not return at all.
+            Ok(Err(_)) => {
+                reversibility_digits = Some(0.0);
+                reversibility_run = Some(at);
             }
             Err(IntegrateError::Unsupported(_)) => {}
             Err(e) => return Err(MeasureError::Integrator(e)),
