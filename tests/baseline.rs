@@ -27,7 +27,7 @@ fn drift(exponent: f64) -> DriftFit {
     DriftFit {
         exponent,
         class: DriftClass::of_exponent(exponent),
-        max_error: 1e-12,
+        max_error: 1e-6,
     }
 }
 

@@ -7,8 +7,8 @@ use super::super::model::{CheckResult, PackageOutcome, PackageRun};
 use super::{clip, color, figure, headline, rows_table, PASS_MEANS};
 
 /// The order of a check with its interval: `4.00 ±0.02` in the asymptotic
-/// range, `~4.22 converging` while the local slope still moves, `0.00
-/// plateau` with a plateau, `-` without a reading.
+/// range, `~4.22 conv.` while the local slope still moves (converging),
+/// `0.00 plat.` with a plateau, `-` without a reading.
 fn order_text(check: &CheckResult) -> String {
     let Some(order) = headline(check, "order") else {
         return "-".into();
@@ -19,8 +19,8 @@ fn order_text(check: &CheckResult) -> String {
         .and_then(|f| f.get("order_status"))
         .and_then(|v| v.as_str());
     match status {
-        Some("converging") => format!("~{order:.2} converging"),
-        Some("plateau") => format!("{order:.2} plateau"),
+        Some("converging") => format!("~{order:.2} conv."),
+        Some("plateau") => format!("{order:.2} plat."),
         _ => match (headline(check, "order_low"), headline(check, "order_high")) {
             (Some(lo), Some(hi)) => format!("{order:.2} \u{b1}{:.2}", (hi - lo) / 2.0),
             _ => format!("{order:.2}"),
@@ -47,7 +47,7 @@ pub fn verdict_table(runs: &[PackageRun], on: bool) -> String {
                     *counts.entry(c.verdict.clone()).or_default() += 1;
                     let word = color::verdict(&format!("{:<14}", c.verdict), &c.verdict, on);
                     let figures = format!(
-                        "order {:<15} best {:>5}",
+                        "order {:<11} best {:>5}",
                         order_text(c),
                         figure(headline(c, "best_digits"))
                     );
