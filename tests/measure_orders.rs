@@ -161,6 +161,8 @@ fn explicit_runge_kutta_orders_on_every_problem() {
         &config(8_000_000),
         oor,
     ));
+    // The midpoint rule gets there at this budget: the ladder's refined
+    // last rung (3.7e6 steps per period) adds the third agreeing slope.
     misses.extend(sweep(
         "midpoint",
         || Fixed(Midpoint::default()),
@@ -168,7 +170,7 @@ fn explicit_runge_kutta_orders_on_every_problem() {
         FIXED_BAND,
         &all,
         &config(8_000_000),
-        oor,
+        &[],
     ));
     misses.extend(sweep(
         "rk4",

@@ -366,12 +366,13 @@ fn claimed_class(c: EnergyClaim) -> DriftClass {
 /// The random-walk roundoff level of a run (digits), or infinity when the
 /// run is unknown (nothing counts as roundoff then).
 fn run_roundoff(at: Option<RunAt>) -> f64 {
-    at.map_or(f64::INFINITY, |a| {
-        roundoff_digits(
-            a.steps_per_unit
-                .saturating_mul(a.periods.max(1.0).round() as u64),
-        )
-    })
+    at.map_or(f64::INFINITY, |a| roundoff_digits(run_steps(a)))
+}
+
+/// The steps of a run in one direction.
+fn run_steps(at: RunAt) -> u64 {
+    at.steps_per_unit
+        .saturating_mul(at.periods.max(1.0).round() as u64)
 }
 
 /// The best digits of a record as a reading.
@@ -510,37 +511,34 @@ fn compare(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Rows
             run_roundoff(base.runs.long_run),
         );
     }
+    // Period and virial digits are truncation error of the long run;
+    // reversibility of a symmetric method sits at roundoff, where rounding
+    // decides it (metrics::rounding_uncertainty over both directions).
     let figures = [
         (
             "period digits",
-            base.period_digits,
-            now.period_digits,
+            (base.period_digits, now.period_digits),
             slack.period_digits,
+            None,
         ),
         (
             "virial digits",
-            base.virial_digits,
-            now.virial_digits,
+            (base.virial_digits, now.virial_digits),
             slack.period_digits,
+            None,
         ),
         (
             "reversibility digits",
-            base.reversibility_digits,
-            now.reversibility_digits,
+            (base.reversibility_digits, now.reversibility_digits),
             slack.reversibility_digits,
+            base.runs.reversibility,
         ),
     ];
-    let rev = run_roundoff(base.runs.reversibility);
-    for (metric, b, n, s) in figures {
-        // Reversibility of a symmetric method sits at roundoff, where
-        // rounding decides it (see metrics::rounding_uncertainty).
-        let reading = |v: f64| match base.runs.reversibility {
-            Some(at) if metric.starts_with("reversibility") && v >= rev - FLOOR_BAND => Reading {
+    for (metric, (b, n), s, run) in figures {
+        let reading = |v: f64| match run {
+            Some(at) if v >= run_roundoff(Some(at)) - FLOOR_BAND => Reading {
                 value: v,
-                uncertainty: rounding_uncertainty(
-                    at.steps_per_unit
-                        .saturating_mul(2 * at.periods.max(1.0) as u64),
-                ),
+                uncertainty: rounding_uncertainty(2 * run_steps(at), v),
             },
             _ => Reading::exact(v),
         };

@@ -87,7 +87,7 @@ pub(super) fn declared(
         Some(t) => Some(tolerances(loc, kind, stepper, t, raw.ladder.is_some())?),
         None => None,
     };
-    let default_periods = builtin.map_or(DEFAULT_PERIODS, |info| info.periods);
+    let default_periods = builtin.map_or(DEFAULT_PERIODS, |info| info.periods_for(kind));
     let mut config = settings.config(
         kind,
         default_periods,

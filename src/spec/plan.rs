@@ -148,7 +148,7 @@ fn battery(
                     info,
                     params: BTreeMap::new(),
                 },
-                info.periods,
+                info.periods_for(kind),
             )
         });
     let users = cat
