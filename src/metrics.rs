@@ -401,8 +401,11 @@ pub struct SeriesAnalysis {
 /// let fit = a.fit.unwrap();
 /// assert_eq!(fit.status, FitStatus::Asymptotic);
 /// assert!((fit.order - 4.0).abs() < 0.01 && fit.low <= 4.0 && 4.0 <= fit.high);
+/// // The slope halves into the floor at rung 9; rungs within 2 digits of
+/// // it are near the floor.
+/// assert_eq!(a.floor_from, Some(9));
 /// assert_eq!(a.classes[10], RungClass::Floor);
-/// assert_eq!(a.classes[9], RungClass::NearFloor);
+/// assert_eq!(a.classes[8], RungClass::NearFloor);
 /// assert!(a.plateau_from.is_none());
 /// ```
 pub fn analyse_series(x: &[f64], d: &[Option<f64>], steps: &[u64]) -> SeriesAnalysis {

@@ -9,7 +9,7 @@ use std::fs;
 use std::path::{Path, PathBuf};
 
 use drift::baseline::{
-    judge, Baseline, CheckRecord, ErrorKind, Header, LadderRecord, RowStatus, Verdict,
+    judge, Baseline, CheckRecord, DriftRecord, ErrorKind, Header, LadderRecord, RowStatus, Verdict,
 };
 use drift::claims::{Claims, EnergyClaim, Slack};
 use drift::measure::{
@@ -702,6 +702,35 @@ fn a_new_plateau_regresses() {
         },
     );
     assert_eq!(j.verdict, Verdict::ClaimViolated);
+}
+
+#[test]
+fn plateau_and_drift_rows_show_figures_not_indices_or_class_names() {
+    // Before, the plateau row printed a 0-based rung index as a decimal
+    // (`- 5.00`) and drift rows put exponents against a class name
+    // (`1.00 0.00 <= linear`).
+    let base = record();
+    let mut now = base.clone();
+    now.plateau_from = Some(3);
+    now.classes[3] = RungClass::Plateau;
+    let energy = now.invariants.get_mut("energy").unwrap();
+    energy.drift_forward = Some(DriftRecord {
+        class: DriftClass::Linear,
+        exponent: 1.0,
+        digits: Some(6.0),
+    });
+    let j = judge_default(&now, Some(&base), &Claims::default());
+    let row = |name: &str| j.rows.iter().find(|r| r.metric == name).unwrap().clone();
+    let plateau = row("plateau");
+    assert_eq!((plateau.baseline, plateau.now), (None, None));
+    assert_eq!(plateau.allowed, "none (now from 128/unit)");
+    let drift = row("energy drift exponent fwd");
+    assert_eq!(drift.status, RowStatus::Worse);
+    assert_eq!(drift.now, Some(1.0));
+    // The limit is an exponent: the recorded class's upper bound (bounded:
+    // 0.25) or the recorded exponent (0.01) plus the slack (0.3), whichever
+    // is larger.
+    assert!(drift.allowed.starts_with("<= 0.31 "), "{}", drift.allowed);
 }
 
 #[test]

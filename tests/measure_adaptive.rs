@@ -111,8 +111,8 @@ fn check_band(
 const DP5_CONVERGING: &[&str] = &["lotka_volterra"];
 
 /// Dormand-Prince 5(4) reads 5 within 0.3 on every built-in problem but
-/// Arenstorf (see the ignored test below), Lotka-Volterra (by
-/// self-convergence) and the driven oscillator included. Each problem
+/// Arenstorf (its own test below), the driven oscillator included, except
+/// where it must say it has not settled ([`DP5_CONVERGING`]). Each problem
 /// reaches two digits; the test checks that too.
 #[test]
 fn dormand_prince_reads_fifth_order_on_the_built_in_problems() {
@@ -146,18 +146,21 @@ fn dormand_prince_reads_fifth_order_on_the_built_in_problems() {
     );
 }
 
-/// Known miss: on the Arenstorf orbit over one period Dormand-Prince's
-/// error stalls at about 9 digits from tolerance 1e-14 on (the close lunar
-/// passage amplifies rounding), which is now read as its floor; above it
-/// the local slope still moves (a converging ~4.89), so there is no
-/// asymptotic 5 to read within the ladder.
+/// On the Arenstorf orbit over one period Dormand-Prince's error stalls at
+/// about 9 digits from tolerance 1e-14 on (the close lunar passage
+/// amplifies rounding), which is read as its floor; above it the local
+/// slope still moves, so the reading must say so (converging: its claim
+/// reads "not measurable here") or, should it settle, read 5 within 0.3.
 #[test]
-#[ignore = "Dormand-Prince does not settle on Arenstorf above its conditioning floor"]
-fn dormand_prince_reads_fifth_order_on_arenstorf() {
+fn dormand_prince_on_arenstorf_reads_five_or_says_it_cannot() {
     let p = Arenstorf::default();
     let m = run(Whole(DormandPrince::default()), &p, &config(1.0));
-    let miss = check_band("dopri5", &p, &m, 5.0, DP5_BAND);
-    assert!(miss.is_none(), "{miss:?}");
+    let fit = m.solution.fit.expect("a reading");
+    if fit.status != FitStatus::Converging {
+        let miss = check_band("dopri5", &p, &m, 5.0, DP5_BAND);
+        assert!(miss.is_none(), "{miss:?}");
+    }
+    assert!(fit.low <= 5.0 + DP5_BAND, "{}", row("dopri5", &p, &m));
 }
 
 /// DOP853 reads 8 within 0.5 where its controller settles (work growing
@@ -194,16 +197,21 @@ fn dop853_reads_eighth_order_or_says_why_not() {
     );
 }
 
-/// Known miss: DOP853 on the driven oscillator settles (work slope 1/8)
-/// too close to the floor: the rungs between one digit and two digits below
-/// the floor span under two decades of tolerance, so it reads no order.
+/// DOP853 on the driven oscillator settles (work slope 1/8) too close to
+/// the floor: the rungs between one digit and two digits below the floor
+/// span under two decades of tolerance, so there is no order, and the
+/// reading says why instead of giving a number.
 #[test]
-#[ignore = "DOP853's regime on the driven oscillator spans under two decades above the floor"]
-fn dop853_reads_eighth_order_on_driven() {
+fn dop853_on_driven_says_why_there_is_no_order() {
     let p = Driven::default();
     let m = run(Whole(Dop853::default()), &p, &config(10.0));
-    let miss = check_band("dop853", &p, &m, 8.0, DOP853_BAND);
-    assert!(miss.is_none(), "{miss:?}");
+    match (&m.solution.fit, &m.adaptive.as_ref().unwrap().no_order) {
+        (None, Some(_)) => {}
+        _ => {
+            let miss = check_band("dop853", &p, &m, 8.0, DOP853_BAND);
+            assert!(miss.is_none(), "{miss:?}");
+        }
+    }
 }
 
 /// A budget too small for the controller to settle: the reading is no

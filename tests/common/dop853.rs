@@ -15,7 +15,7 @@
 use drift::Rhs;
 
 use super::adaptive::{Adaptive, EmbeddedPair, StepControl, Tol};
-use super::steppers::{Axpy, Coefficients, Exact, ExplicitRk, Plain, Tableau};
+use super::steppers::{weights_minus, Axpy, Coefficients, Exact, ExplicitRk, Plain, Tableau};
 
 /// The 12 stages and 8th-order weights of DOP853 (Hairer, Norsett and
 /// Wanner I, II.10; coefficients of the DOP853 code as given in
@@ -261,26 +261,10 @@ pub const DOP853_B3: [f64; 12] = [
 ];
 
 /// Weights `b - bhh` of the 3rd-order error estimate.
-pub const DOP853_E3: [f64; 12] = {
-    let mut e = [0.0; 12];
-    let mut i = 0;
-    while i < 12 {
-        e[i] = B[i] - DOP853_B3[i];
-        i += 1;
-    }
-    e
-};
+pub const DOP853_E3: [f64; 12] = weights_minus(B, DOP853_B3);
 
 /// The 5th-order weights `b^(5) = b - e5` (for the order-condition test).
-pub const DOP853_B5: [f64; 12] = {
-    let mut b5 = [0.0; 12];
-    let mut i = 0;
-    while i < 12 {
-        b5[i] = B[i] - DOP853_E5[i];
-        i += 1;
-    }
-    b5
-};
+pub const DOP853_B5: [f64; 12] = weights_minus(B, DOP853_E5);
 
 /// Controller constants of the DOP853 code (Hairer, Norsett and Wanner I,
 /// II.10 and the code's defaults): safety 0.9, step-size factors in

@@ -390,17 +390,20 @@ pub const DORMAND_PRINCE_B_HAT: [f64; 7] = [
     1.0 / 40.0,
 ];
 
-/// `b - b^` of Dormand-Prince 5(4): the weights of its error estimate.
-pub const DORMAND_PRINCE_E: [f64; 7] = {
-    let (b, bh) = (DP_B, DORMAND_PRINCE_B_HAT);
-    let mut e = [0.0; 7];
+/// `a - b` component by component, at compile time (the weights of an
+/// embedded error estimate are differences of two weight rows).
+pub const fn weights_minus<const S: usize>(a: [f64; S], b: [f64; S]) -> [f64; S] {
+    let mut d = [0.0; S];
     let mut i = 0;
-    while i < 7 {
-        e[i] = b[i] - bh[i];
+    while i < S {
+        d[i] = a[i] - b[i];
         i += 1;
     }
-    e
-};
+    d
+}
+
+/// `b - b^` of Dormand-Prince 5(4): the weights of its error estimate.
+pub const DORMAND_PRINCE_E: [f64; 7] = weights_minus(DP_B, DORMAND_PRINCE_B_HAT);
 
 /// Controller constants of Dormand-Prince 5(4) (Hairer, Norsett and Wanner
 /// I, section II.4, (4.13); the code DOPRI5 has fac1 = 0.2, fac2 = 10):
