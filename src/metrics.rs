@@ -1056,6 +1056,23 @@ mod tests {
     }
 
     #[test]
+    fn a_plateau_reads_as_order_zero_not_below() {
+        // Order 2 for one doubling, then falling back far above rounding:
+        // the line through the rungs slopes down (an order such as -1.79
+        // was shown before), but a plateau counts as order 0.
+        let (x, s) = ladder(8);
+        let d: Vec<Option<f64>> = [2.0, 2.6, 2.4, 2.0, 1.6, 1.3, 1.1, 1.05]
+            .iter()
+            .map(|&v| Some(v))
+            .collect();
+        let a = analyse_series(&x, &d, &s);
+        let fit = a.fit.unwrap();
+        assert_eq!(fit.status, FitStatus::Plateau);
+        assert_eq!(fit.order, 0.0, "{fit:?}");
+        assert!(a.plateau_from.is_some());
+    }
+
+    #[test]
     fn random_walk_drift() {
         // Deterministic sqrt(t) envelope.
         let t: Vec<f64> = (1..=2000).map(|i| i as f64).collect();

@@ -203,7 +203,7 @@ fn output_is_deterministic_and_sorted() {
     let one = baseline_of(&[("rk4/harmonic", &m), ("dopri/kepler", &t)]).to_toml();
     let two = baseline_of(&[("dopri/kepler", &t), ("rk4/harmonic", &m)]).to_toml();
     assert_eq!(one.as_bytes(), two.as_bytes());
-    assert!(one.starts_with("[header]\nformat = 1\n"), "{one}");
+    assert!(one.starts_with("[header]\nformat = 2\n"), "{one}");
     let dopri = one.find("[check.\"dopri/kepler\"]").unwrap();
     let rk4 = one.find("[check.\"rk4/harmonic\"]").unwrap();
     let energy = one
@@ -336,7 +336,7 @@ fn long_run_resolution_and_horizon_round_trip() {
 fn a_newer_format_is_a_clear_error() {
     let text = baseline_of(&[])
         .to_toml()
-        .replace("format = 1", "format = 2");
+        .replace("format = 2", "format = 3");
     let e = Baseline::parse(&text, path()).unwrap_err();
     assert_eq!(e.kind, ErrorKind::NewerFormat);
     assert_eq!(e.position, Some((2, 10)), "{e}");

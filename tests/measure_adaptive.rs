@@ -13,6 +13,7 @@ mod common;
 
 use common::dop853::Dop853;
 use common::steppers::DormandPrince;
+use drift::baseline::CheckRecord;
 use drift::measure::{
     measure, Config, Ladder, LadderStop, MeasureError, Measurement, Method, NoOrder, Resolution,
     Whole,
@@ -257,6 +258,14 @@ fn tolerance_proportionality_slope_and_offset() {
     assert!((a.slope - 1.0).abs() < 0.1, "{a:?}");
     assert!((b.slope - 1.0).abs() < 0.1, "{b:?}");
     assert!((b.offset - a.offset - 2.0).abs() < 0.3, "{a:?} {b:?}");
+    // The baseline keeps both figures, and reads them back.
+    let record = CheckRecord::from_measurement(&loose);
+    let t = record.tolerance.expect("recorded proportionality");
+    assert!((t.slope - b.slope).abs() < 1e-3 && (t.offset - b.offset).abs() < 1e-3);
+    let text = serde_json::to_string(&record).unwrap();
+    assert!(text.contains("\"tolerance_offset\""), "{text}");
+    let back: CheckRecord = serde_json::from_str(&text).unwrap();
+    assert_eq!(back.tolerance, record.tolerance);
 }
 
 /// An integrator that supports only fixed steps gets the automatic step

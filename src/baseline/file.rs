@@ -10,7 +10,9 @@ use std::ops::Range;
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-use super::record::{CheckRecord, DriftRecord, InvariantRecord, LadderRecord, RunsRecord};
+use super::record::{
+    CheckRecord, DriftRecord, InvariantRecord, LadderRecord, RunsRecord, ToleranceRecord,
+};
 use super::Header;
 use crate::measure::{Basis, MethodKind, RunAt};
 use crate::metrics::{Best, DriftClass, FitStatus, OrderFit, RungClass, MAX_DIGITS};
@@ -88,6 +90,8 @@ pub(super) struct RawCheck {
     long_run_requested_periods: Option<f64>,
     reversibility_steps_per_unit: Option<u64>,
     reversibility_periods: Option<f64>,
+    tolerance_slope: Option<f64>,
+    tolerance_offset: Option<f64>,
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     invariant: BTreeMap<String, RawInvariant>,
 }
@@ -208,6 +212,8 @@ impl From<&CheckRecord> for RawCheck {
             long_run_requested_periods: r.runs.long_run_requested,
             reversibility_steps_per_unit: r.runs.reversibility.map(|a| a.steps_per_unit),
             reversibility_periods: r.runs.reversibility.map(|a| a.periods),
+            tolerance_slope: r.tolerance.map(|t| t.slope),
+            tolerance_offset: r.tolerance.map(|t| t.offset),
             invariant,
         }
     }
@@ -369,6 +375,18 @@ impl RawCheck {
                     self.reversibility_periods,
                     "reversibility",
                 )?,
+            },
+            tolerance: match (self.tolerance_slope, self.tolerance_offset) {
+                (Some(slope), Some(offset)) if slope.is_finite() && offset.is_finite() => {
+                    Some(ToleranceRecord { slope, offset })
+                }
+                (None, None) => None,
+                _ => {
+                    return Err(
+                        "`tolerance_slope` and `tolerance_offset` go together, as finite numbers"
+                            .into(),
+                    )
+                }
             },
         })
     }

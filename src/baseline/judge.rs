@@ -149,6 +149,24 @@ pub(crate) fn figure(v: Option<f64>) -> String {
     v.map_or_else(|| "-".to_string(), |v| format!("{v:.2}"))
 }
 
+/// The five cells of a figures row: figure, recorded, measured (2
+/// decimals, `-` when absent), limit, status.
+pub(crate) fn row_cells(
+    metric: &str,
+    baseline: Option<f64>,
+    now: Option<f64>,
+    allowed: &str,
+    status: &str,
+) -> [String; 5] {
+    [
+        metric.to_string(),
+        figure(baseline),
+        figure(now),
+        allowed.to_string(),
+        status.to_string(),
+    ]
+}
+
 /// Lines of a figures table: figure, recorded, measured, limit, status.
 /// Columns are as wide as their widest cell, so no label or limit is cut.
 pub(crate) fn row_lines(cells: &[[String; 5]]) -> Vec<String> {
@@ -205,15 +223,7 @@ impl Judgement {
         let cells: Vec<[String; 5]> = self
             .rows
             .iter()
-            .map(|r| {
-                [
-                    r.metric.clone(),
-                    figure(r.baseline),
-                    figure(r.now),
-                    r.allowed.clone(),
-                    r.status.name().to_string(),
-                ]
-            })
+            .map(|r| row_cells(&r.metric, r.baseline, r.now, &r.allowed, r.status.name()))
             .collect();
         let mut out = row_lines(&cells).join("\n");
         out.push('\n');
@@ -384,16 +394,31 @@ fn best_reading(r: &CheckRecord) -> Option<Reading> {
 }
 
 /// Why an order is not gated, if it is not: a converging reading on
-/// either side, or no reading on one side (the digits of every rung and
-/// the claims still judge the check).
-fn ungated(base: Option<&OrderFit>, now: Option<&OrderFit>) -> Option<&'static str> {
-    let converging = |f: Option<&OrderFit>| f.is_some_and(|f| f.status == FitStatus::Converging);
-    if converging(base) || converging(now) {
-        Some("not gated: still converging")
-    } else if base.is_none() || now.is_none() {
-        Some("not gated: no reading on one side")
-    } else {
-        None
+/// either side (named with its finest local slope, trend and range), or no
+/// reading on one side. The digits of every rung and the claims still
+/// judge the check.
+fn ungated(base: &CheckRecord, now: &CheckRecord) -> Option<String> {
+    let converging = |r: &CheckRecord| {
+        r.fit
+            .filter(|f| f.status == FitStatus::Converging)
+            .map(|f| {
+                format!(
+                    "slope {:.2} in [{:.2}, {:.2}] over {}..{}",
+                    f.order,
+                    f.low,
+                    f.high,
+                    r.ladder.label(f.first),
+                    r.ladder.label(f.last)
+                )
+            })
+    };
+    match (converging(base), converging(now)) {
+        (_, Some(n)) => Some(format!("not gated: still converging, {n}")),
+        (Some(b), None) => Some(format!("not gated: recorded still converging, {b}")),
+        _ if base.fit.is_none() || now.fit.is_none() => {
+            Some("not gated: no reading on one side".into())
+        }
+        _ => None,
     }
 }
 
@@ -405,13 +430,13 @@ fn order_row(now: &CheckRecord, base: &CheckRecord, slack: &Slack, rows: &mut Ro
         value: f.order,
         uncertainty: f.uncertainty(),
     };
-    match ungated(base.fit.as_ref(), now.fit.as_ref()) {
+    match ungated(base, now) {
         Some(why) => {
             let row = MetricRow {
                 metric: "order".into(),
                 baseline: base.fit.map(|f| f.order),
                 now: now.fit.map(|f| f.order),
-                allowed: why.into(),
+                allowed: why,
                 status: RowStatus::Ok,
             };
             rows.push(row, true);
@@ -652,7 +677,7 @@ fn check_claims(now: &CheckRecord, claims: &Claims, rows: &mut Rows) {
 ///     fit: Some(OrderFit { order: 3.99, residual: 0.0, first: 0, last: 1, low: 3.97, high: 4.01, status: FitStatus::Asymptotic }),
 ///     best: None, plateau_from: None, floor_from: None, evals_per_step: 4.0,
 ///     invariants: Default::default(), period_digits: None, virial_digits: None,
-///     reversibility_digits: None, diverged_at: None, runs: Default::default(),
+///     reversibility_digits: None, diverged_at: None, runs: Default::default(), tolerance: None,
 /// };
 /// let rows = claim_rows(&r, &Claims { order: Some(4.0), ..Claims::default() });
 /// assert_eq!(rows.len(), 1);
@@ -685,7 +710,7 @@ pub fn claim_rows(now: &CheckRecord, claims: &Claims) -> Vec<MetricRow> {
 ///     best: Some(Best { digits: 4.4, rung: 2, uncertainty: 0.0 }), plateau_from: None, floor_from: None,
 ///     evals_per_step: 4.0, invariants: Default::default(), period_digits: None,
 ///     virial_digits: None, reversibility_digits: None, diverged_at: None,
-///     runs: Default::default(),
+///     runs: Default::default(), tolerance: None,
 /// };
 /// let claims = Claims { order: Some(4.0), ..Claims::default() };
 /// assert_eq!(judge(&r, Some(&r), &claims, &Slack::default()).verdict, Verdict::Pass);

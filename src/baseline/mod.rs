@@ -13,7 +13,8 @@ pub mod record;
 
 pub use judge::{claim_rows, judge, Judgement, MetricRow, RowStatus, Verdict};
 pub use record::{
-    round_figure, CheckRecord, DriftRecord, InvariantRecord, LadderRecord, RunsRecord, DECIMALS,
+    round_figure, CheckRecord, DriftRecord, InvariantRecord, LadderRecord, RunsRecord,
+    ToleranceRecord, DECIMALS,
 };
 
 use std::collections::BTreeMap;
@@ -29,8 +30,12 @@ use file::{Located, Probe, RawCheck, RawFile};
 /// Default file name of the baseline, beside `drift.toml`.
 pub const FILE_NAME: &str = "drift-baseline.toml";
 
-/// Version of the file layout this build reads and writes.
-pub const FORMAT: u32 = 1;
+/// Version of the file layout this build writes; it reads this one and
+/// every older one. Format 2 added the order reading's interval and status
+/// (`order_low`, `order_high`, `order_status`), the uncertainties of best
+/// digits, drift digits, the stored long and reversibility runs and the
+/// tolerance proportionality; a format-1 file reads with those absent.
+pub const FORMAT: u32 = 2;
 
 /// The command that rewrites a baseline, named in error hints.
 const RECORD_HINT: &str = "re-record it with `DRIFT_RECORD=1 cargo test --test drift`";
@@ -233,7 +238,7 @@ impl Baseline {
     ///
     /// ```
     /// let text = drift::baseline::Baseline::new(Default::default()).to_toml();
-    /// assert!(text.starts_with("[header]\nformat = 1\n"));
+    /// assert!(text.starts_with("[header]\nformat = 2\n"));
     /// ```
     pub fn to_toml(&self) -> String {
         let raw = RawFile {

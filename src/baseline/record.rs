@@ -182,6 +182,19 @@ pub struct CheckRecord {
     pub diverged_at: Option<f64>,
     /// Where the long run and the reversibility run were made.
     pub runs: RunsRecord,
+    /// Tolerance proportionality of an adaptive integrator over its fitted
+    /// rungs (`None` for fixed steps, or with no order read).
+    pub tolerance: Option<ToleranceRecord>,
+}
+
+/// How an adaptive integrator's achieved error follows the requested
+/// tolerance: log10(error) against log10(tolerance), rounded.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ToleranceRecord {
+    /// Slope: 1 when the error is proportional to the tolerance.
+    pub slope: f64,
+    /// Decades the error sits above (positive) or below the tolerance.
+    pub offset: f64,
 }
 
 impl CheckRecord {
@@ -294,6 +307,14 @@ impl CheckRecord {
                     ..r
                 }),
             },
+            tolerance: m
+                .adaptive
+                .as_ref()
+                .and_then(|a| a.proportionality)
+                .map(|p| ToleranceRecord {
+                    slope: round_figure(p.slope),
+                    offset: round_figure(p.offset),
+                }),
         }
     }
 }

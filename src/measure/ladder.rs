@@ -698,24 +698,14 @@ pub(crate) fn run<M: Method, P: Problem + ?Sized>(
                     (*start, *max_rungs, *budget),
                     &mut raw,
                 )?,
-                Err(MeasureError::Integrator(e)) => {
-                    stop = Some(run_auto_tolerances(
-                        method,
-                        problem,
-                        config,
-                        *budget,
-                        Err(e),
-                        &mut raw,
-                    )?)
-                }
                 rung => {
+                    // A failed first rung is left out like any other.
+                    let first = match rung {
+                        Err(MeasureError::Integrator(e)) => Err(e),
+                        other => Ok(other?),
+                    };
                     stop = Some(run_auto_tolerances(
-                        method,
-                        problem,
-                        config,
-                        *budget,
-                        Ok(rung?),
-                        &mut raw,
+                        method, problem, config, *budget, first, &mut raw,
                     )?)
                 }
             }

@@ -22,23 +22,16 @@ pub(crate) fn headline(check: &CheckResult, key: &str) -> Option<f64> {
 }
 
 pub(crate) use crate::baseline::judge::clip;
+use crate::baseline::judge::{row_cells, row_lines};
 
 /// The rows of a check as text lines: figure, recorded, measured, limit,
 /// status, each column as wide as its widest cell (nothing is cut).
 pub(crate) fn rows_table(rows: &[Row]) -> Vec<String> {
     let cells: Vec<[String; 5]> = rows
         .iter()
-        .map(|r| {
-            [
-                r.metric.clone(),
-                figure(r.baseline),
-                figure(r.now),
-                r.allowed.clone(),
-                r.status.clone(),
-            ]
-        })
+        .map(|r| row_cells(&r.metric, r.baseline, r.now, &r.allowed, &r.status))
         .collect();
-    crate::baseline::judge::row_lines(&cells)
+    row_lines(&cells)
 }
 
 /// What a pass means, in one line.
