@@ -394,7 +394,8 @@ fn best_reading(r: &CheckRecord) -> Option<Reading> {
 }
 
 /// Why an order is not gated, if it is not: a converging reading on
-/// either side (named with its finest local slope, trend and range), or no
+/// either side (named with its finest local slope, interval and the rungs
+/// it was read over), or no
 /// reading on one side. The digits of every rung and the claims still
 /// judge the check.
 fn ungated(base: &CheckRecord, now: &CheckRecord) -> Option<String> {
@@ -403,7 +404,7 @@ fn ungated(base: &CheckRecord, now: &CheckRecord) -> Option<String> {
             .filter(|f| f.status == FitStatus::Converging)
             .map(|f| {
                 format!(
-                    "slope {:.2} in [{:.2}, {:.2}] over {}..{}",
+                    "{:.2} in [{:.2}, {:.2}], {}..{}",
                     f.order,
                     f.low,
                     f.high,
@@ -413,8 +414,8 @@ fn ungated(base: &CheckRecord, now: &CheckRecord) -> Option<String> {
             })
     };
     match (converging(base), converging(now)) {
-        (_, Some(n)) => Some(format!("not gated: still converging, {n}")),
-        (Some(b), None) => Some(format!("not gated: recorded still converging, {b}")),
+        (_, Some(n)) => Some(format!("not gated: converging, {n}")),
+        (Some(b), None) => Some(format!("not gated: recorded converging, {b}")),
         _ if base.fit.is_none() || now.fit.is_none() => {
             Some("not gated: no reading on one side".into())
         }
