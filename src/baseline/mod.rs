@@ -184,7 +184,7 @@ impl Baseline {
     /// use std::path::Path;
     /// let text = drift::baseline::Baseline::new(Default::default()).to_toml();
     /// let b = drift::baseline::Baseline::parse(&text, Path::new("drift-baseline.toml")).unwrap();
-    /// assert_eq!(b.header.format, 1);
+    /// assert_eq!(b.header.format, drift::baseline::FORMAT);
     /// ```
     pub fn parse(text: &str, path: &Path) -> Result<Baseline, BaselineError> {
         let located = |l: Located, kind: ErrorKind, hint: String| BaselineError {

@@ -399,20 +399,15 @@ fn analyse(raw: &[RawRung], d: &[Option<f64>], start: usize) -> SeriesAnalysis {
     };
     // The rungs from the cut on are near the floor: not read, but kept for
     // the best digits.
-    let read: Vec<Option<f64>> = (0..raw.len())
-        .map(|k| if k < cut { d[k] } else { None })
+    let read: Vec<Option<f64>> = d
+        .iter()
+        .enumerate()
+        .map(|(k, v)| v.filter(|_| k < cut))
         .collect();
     let mut a = analyse_series_from(&x_axis(raw), &read, &steps, start.min(cut));
-    for k in cut..raw.len() {
-        if d[k].is_some() {
-            a.classes[k] = RungClass::NearFloor;
-        }
-    }
-    if let Some(k) = (cut..raw.len())
-        .filter(|&k| d[k].is_some())
-        .max_by(|&i, &j| d[i].unwrap_or(0.0).total_cmp(&d[j].unwrap_or(0.0)))
-    {
-        let v = d[k].unwrap_or(0.0);
+    for (k, v) in d.iter().enumerate().skip(cut) {
+        let Some(v) = *v else { continue };
+        a.classes[k] = RungClass::NearFloor;
         if a.best.is_none_or(|b| v > b.digits) {
             a.best = Some(Best {
                 digits: v,
