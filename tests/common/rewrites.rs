@@ -19,8 +19,8 @@ use super::adaptive::{Adaptive, EmbeddedPair, Tol};
 use super::dop853::{Dop853, Dop853Pair};
 use super::steppers::{
     Coefficients, DormandPrince, DormandPrinceTableau, Dp5Pair, EulerTableau, Exact, ExplicitRk,
-    Fused, Heun, HeunTableau, Leapfrog, Midpoint, MidpointTableau, Rk4, Rk4Tableau, TripleJump,
-    TripleJumpOf, DORMAND_PRINCE_CONTROL, DORMAND_PRINCE_E,
+    Fused, Halved, Heun, HeunTableau, Leapfrog, Midpoint, MidpointTableau, Rk4, Rk4Tableau,
+    TripleJump, TripleJumpOf, DORMAND_PRINCE_CONTROL, DORMAND_PRINCE_E,
 };
 
 // ---------------------------------------------------------------------------
@@ -38,6 +38,8 @@ pub type Rk4Fused = ExplicitRk<4, Rk4Tableau, Exact, Fused>;
 pub type DormandPrinceFused = Adaptive<Dp5Pair<Fused>>;
 /// DOP853 with fused stage sums (same controller).
 pub type Dop853Fused = Adaptive<Dop853Pair<Fused>>;
+/// DOP853 with every weight added in two halves (same controller).
+pub type Dop853Halved = Adaptive<Dop853Pair<Halved>>;
 
 /// Sizes `buf` to `n` components.
 fn sized(buf: &mut Vec<f64>, n: usize) -> &mut [f64] {
@@ -487,6 +489,7 @@ pub fn families() -> Vec<Family> {
             vec![
                 named("tableau", whole::<Dop853>()),
                 named("fused", whole::<Dop853Fused>()),
+                named("halved", whole::<Dop853Halved>()),
             ],
         ),
     ]

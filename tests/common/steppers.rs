@@ -100,6 +100,18 @@ impl Axpy for Fused {
     }
 }
 
+/// `y + (a/2) x + (a/2) x`: the weight split in two equal halves (exact
+/// in binary), added one after the other; the same sum with other roundings.
+pub struct Halved;
+
+impl Axpy for Halved {
+    #[inline(always)]
+    fn axpy(a: f64, x: f64, y: f64) -> f64 {
+        let half = 0.5 * a * x;
+        y + half + half
+    }
+}
+
 /// The one explicit Runge-Kutta engine (Hairer, Norsett and Wanner I,
 /// section II.1, (1.8)): `k_i = f(t + c_i h, y + h sum_{j<i} a_ij k_j)`,
 /// `y <- y + h sum_i b_i k_i`. Scratch buffers are sized on first use and
