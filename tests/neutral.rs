@@ -47,8 +47,12 @@ fn run(
     } else {
         std::env::remove_var(ENV_RECORD);
     }
+    // The inner runs' own test lines (a planted bug's are failures, as
+    // they must be) go to a log beside the measurements, not into this
+    // test's output.
     let args = Arguments {
         quiet: true,
+        logfile: Some(dir.join("harness.log").to_string_lossy().into_owned()),
         ..Arguments::default()
     };
     let harness = (variant.register)(Harness::new().root(dir), family.name);
